@@ -1,0 +1,68 @@
+"""The calculator contract that built-in and third-party calculators share.
+
+A calculator is a class with a few declarations and one method::
+
+    class Speed(Calculator):
+        name = "speed"                      # lower_snake_case, unique
+        version = "1.0.0"
+        summary = "Effective focal ratio and relative exposure times."
+        Params = SpeedParams                # a pydantic model whose fields all have defaults
+        outputs = (Output("focal_ratio", "", "Effective focal ratio N = f/D."), ...)
+        sources = ("Author, Title, year, section",)
+        cautions = ()                       # optional, shown with every result
+
+        def compute(self, batch: RigBatch, params: SpeedParams) -> dict[str, np.ndarray]:
+            ...
+
+``compute`` receives a whole :class:`~calculators.batch.RigBatch` and returns one array per declared
+output, computed with elementwise numpy operations that broadcast against the batch's columns (never a
+Python loop over rigs). It may return an array of any shape that broadcasts to ``batch.shape``: an output
+that depends only on the telescope stays ``(T, 1, 1, 1)`` in a sweep.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from typing import ClassVar, Literal
+
+import numpy as np
+from pydantic import BaseModel
+
+from calculators.batch import RigBatch
+from calculators.schemas import Strict
+
+
+@dataclass(frozen=True)
+class Output:
+    """One declared output of a calculator."""
+
+    name: str
+    unit: str  # pint-readable unit ("mm^2", "arcsec", "kg"); "" when dimensionless
+    description: str
+    kind: Literal["number", "text", "boolean"] = "number"
+    nullable: bool = False  # may be null (NaN) where an optional input is missing
+    relative: bool = False  # depends on the baseline rig
+
+
+class NoParams(Strict):
+    """Params model of a calculator that takes none."""
+
+
+class Calculator:
+    """Base class of every calculator (see the module docstring for the contract)."""
+
+    name: ClassVar[str]
+    version: ClassVar[str]
+    summary: ClassVar[str]
+    outputs: ClassVar[tuple[Output, ...]]
+    sources: ClassVar[tuple[str, ...]]
+    cautions: ClassVar[tuple[str, ...]] = ()
+    Params: ClassVar[type[BaseModel]] = NoParams
+
+    def compute(self, batch: RigBatch, params: BaseModel) -> dict[str, np.ndarray]:
+        raise NotImplementedError
+
+    def output_units(self, batch: RigBatch, params: BaseModel) -> dict[str, str]:
+        """Units of the outputs for this batch; override when a unit depends on the input
+        (a price is in the rigs' currency)."""
+        return {o.name: o.unit for o in self.outputs}

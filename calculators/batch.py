@@ -1,0 +1,254 @@
+"""A batch of rigs as numpy columns, one element (or one axis position) per rig.
+
+Calculators read columns by name, always with elementwise numpy operations that broadcast. Two
+shapes of batch exist and calculators must not care which they get:
+
+* a **comparison batch** (:meth:`RigBatch.from_rigs`): every column has shape ``(n,)``, one row per rig;
+* a **sweep batch** (:meth:`RigBatch.from_components`): each component kind lies along its own axis
+  (telescope, camera, modifier, mount) so telescope columns have shape ``(T, 1, 1, 1)``, camera columns
+  ``(1, C, 1, 1)`` and so on. An output is then computed only over the axes it depends on, and
+  broadcasting builds the cartesian product only where it is really needed.
+
+Columns (canonical units in the names; a missing optional value is NaN, a missing text is ""):
+
+==========================  =====================================================================
+telescope                   ``aperture_mm``, ``focal_length_mm``, ``obstruction_mm``,
+                            ``telescope_throughput`` (given or the design default), ``design``,
+                            ``telescope_mass_kg``, ``tube_length_mm``, ``tube_diameter_mm``,
+                            ``spider_vanes``, ``mirror_thickness_mm``, ``telescope_price``,
+                            ``telescope_currency``
+modifier (none: neutral)    ``modifier_kind`` ("" for none), ``modifier_factor`` (1),
+                            ``modifier_throughput`` (1), ``modifier_mass_kg`` (0),
+                            ``corrected_field_mm``, ``modifier_price``, ``modifier_currency``
+camera                      ``pixel_size_um``, ``width_px``, ``height_px``, ``quantum_efficiency``,
+                            ``read_noise_e``, ``dark_current_e_per_s``, ``camera_mass_kg``,
+                            ``camera_price``, ``camera_currency``
+mount (none: NaN)           ``mount_type``, ``capacity_kg``, ``mount_mass_kg``, ``mount_price``,
+                            ``mount_currency``
+accessories (summed)        ``accessories_mass_kg`` (0), ``accessories_price``, ``accessories_currency``
+geometry                    ``payload_arm_mm``, ``counterweight_kg``
+==========================  =====================================================================
+
+Price columns come in pairs: ``<slot>_price`` (NaN when unpriced) and ``<slot>_currency``.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Iterator, Mapping, Sequence
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from calculators.schemas import Camera, Modifier, Mount, Price, Rig, Telescope
+
+NAN = float("nan")
+
+#: Slots that carry a price column pair, in the order they are added up.
+PRICE_SLOTS = ("telescope", "modifier", "camera", "mount", "accessories")
+
+#: Sweep axes, in order.
+AXES = ("telescope", "camera", "modifier", "mount")
+
+
+def _amount(price: Price | None) -> float:
+    return NAN if price is None else price.amount
+
+
+def _currency(price: Price | None) -> str:
+    return "" if price is None else price.currency
+
+
+def _opt(value: float | None) -> float:
+    return NAN if value is None else float(value)
+
+
+def telescope_columns(telescopes: Sequence[Telescope]) -> dict[str, np.ndarray]:
+    rows = [
+        (
+            t.aperture_mm, t.focal_length_mm, t.obstruction_mm, t.effective_throughput,
+            _opt(t.mass_kg), _opt(t.length_mm), _opt(t.tube_diameter_mm), _opt(t.spider_vanes),
+            _opt(t.mirror_thickness_mm), _amount(t.price),
+        )
+        for t in telescopes
+    ]
+    names = (
+        "aperture_mm", "focal_length_mm", "obstruction_mm", "telescope_throughput",
+        "telescope_mass_kg", "tube_length_mm", "tube_diameter_mm", "spider_vanes",
+        "mirror_thickness_mm", "telescope_price",
+    )
+    columns = _float_columns(names, rows, len(telescopes))
+    columns["design"] = np.array([t.design.value for t in telescopes], dtype=str)
+    columns["telescope_currency"] = np.array([_currency(t.price) for t in telescopes], dtype="U3")
+    return columns
+
+
+def modifier_columns(modifiers: Sequence[Modifier | None]) -> dict[str, np.ndarray]:
+    rows = [
+        (1.0, 1.0, 0.0, NAN, NAN)
+        if m is None
+        else (m.factor, m.effective_throughput, _opt(m.mass_kg), _opt(m.corrected_field_mm),
+              _amount(m.price))
+        for m in modifiers
+    ]
+    names = ("modifier_factor", "modifier_throughput", "modifier_mass_kg", "corrected_field_mm",
+             "modifier_price")
+    columns = _float_columns(names, rows, len(modifiers))
+    columns["modifier_kind"] = np.array(["" if m is None else m.kind.value for m in modifiers], dtype=str)
+    columns["modifier_currency"] = np.array(
+        ["" if m is None else _currency(m.price) for m in modifiers], dtype="U3"
+    )
+    return columns
+
+
+def camera_columns(cameras: Sequence[Camera]) -> dict[str, np.ndarray]:
+    rows = [
+        (c.pixel_size_um, c.width_px, c.height_px, _opt(c.quantum_efficiency), _opt(c.read_noise_e),
+         _opt(c.dark_current_e_per_s), _opt(c.mass_kg), _amount(c.price))
+        for c in cameras
+    ]
+    names = ("pixel_size_um", "width_px", "height_px", "quantum_efficiency", "read_noise_e",
+             "dark_current_e_per_s", "camera_mass_kg", "camera_price")
+    columns = _float_columns(names, rows, len(cameras))
+    columns["camera_currency"] = np.array([_currency(c.price) for c in cameras], dtype="U3")
+    return columns
+
+
+def mount_columns(mounts: Sequence[Mount | None]) -> dict[str, np.ndarray]:
+    rows = [
+        (NAN, NAN, NAN) if m is None else (m.capacity_kg, _opt(m.mass_kg), _amount(m.price))
+        for m in mounts
+    ]
+    columns = _float_columns(("capacity_kg", "mount_mass_kg", "mount_price"), rows, len(mounts))
+    columns["mount_type"] = np.array(["" if m is None else m.type.value for m in mounts], dtype=str)
+    columns["mount_currency"] = np.array(
+        ["" if m is None else _currency(m.price) for m in mounts], dtype="U3"
+    )
+    return columns
+
+
+def rig_extra_columns(rigs: Sequence[Rig]) -> dict[str, np.ndarray]:
+    """Accessories (summed per rig) and german-equatorial geometry."""
+    rows = []
+    currencies = []
+    for rig in rigs:
+        priced = [a.price for a in rig.accessories if a.price is not None]
+        price = sum(p.amount for p in priced) if priced else NAN
+        currencies.append(priced[0].currency if priced else "")
+        g = rig.geometry
+        rows.append((
+            sum(a.mass_kg for a in rig.accessories), price,
+            NAN if g is None else g.payload_arm_mm, NAN if g is None else g.counterweight_kg,
+        ))
+    names = ("accessories_mass_kg", "accessories_price", "payload_arm_mm", "counterweight_kg")
+    columns = _float_columns(names, rows, len(rigs))
+    columns["accessories_currency"] = np.array(currencies, dtype="U3")
+    return columns
+
+
+def _float_columns(names: Sequence[str], rows: list[tuple], n: int) -> dict[str, np.ndarray]:
+    table = np.array(rows, dtype=np.float64).reshape(n, len(names))
+    return {name: np.ascontiguousarray(table[:, i]) for i, name in enumerate(names)}
+
+
+def _along(columns: dict[str, np.ndarray], axis: int, ndim: int) -> dict[str, np.ndarray]:
+    shape = [1] * ndim
+    out = {}
+    for name, values in columns.items():
+        shape[axis] = values.shape[0]
+        out[name] = values.reshape(shape)
+    return out
+
+
+@dataclass(frozen=True)
+class RigBatch(Mapping[str, np.ndarray]):
+    """Named numpy columns that broadcast to ``shape``, plus the baseline rig's index.
+
+    ``baseline`` has one index per axis of ``shape`` (a single int for a comparison batch).
+    """
+
+    columns: Mapping[str, np.ndarray]
+    baseline: tuple[int, ...]
+    shape: tuple[int, ...] = field(init=False)
+
+    def __post_init__(self) -> None:
+        shape = np.broadcast_shapes(*(np.shape(v) for v in self.columns.values()))
+        if len(self.baseline) != len(shape):
+            raise ValueError(f"baseline {self.baseline} does not index a batch of shape {shape}")
+        for index, size in zip(self.baseline, shape):
+            if not 0 <= index < size:
+                raise IndexError(f"baseline index {index} is outside 0..{size - 1}")
+        object.__setattr__(self, "shape", shape)
+
+    # Mapping protocol: batch["aperture_mm"]
+    def __getitem__(self, name: str) -> np.ndarray:
+        try:
+            return self.columns[name]
+        except KeyError:
+            raise KeyError(f"the batch has no column {name!r}") from None
+
+    def __iter__(self) -> Iterator[str]:
+        return iter(self.columns)
+
+    def __len__(self) -> int:
+        return len(self.columns)
+
+    @property
+    def size(self) -> int:
+        """Number of rigs (combinations) in the batch."""
+        return int(np.prod(self.shape))
+
+    def at_baseline(self, values: np.ndarray) -> np.ndarray:
+        """The baseline rig's element of an output computed from this batch's columns."""
+        values = np.asarray(values)
+        if values.ndim == 0:
+            return values
+        index = tuple(i if n > 1 else 0 for i, n in zip(self.baseline, values.shape))
+        return values[index]
+
+    def relative(self, values: np.ndarray) -> np.ndarray:
+        """``values`` divided by the baseline rig's value (1 for the baseline itself)."""
+        with np.errstate(divide="ignore", invalid="ignore"):
+            return values / self.at_baseline(values)
+
+    @classmethod
+    def from_rigs(cls, rigs: Sequence[Rig], baseline: int = 0) -> RigBatch:
+        """One row per rig: every column has shape ``(len(rigs),)``."""
+        if not rigs:
+            raise ValueError("a batch needs at least one rig")
+        columns = {
+            **telescope_columns([r.telescope for r in rigs]),
+            **modifier_columns([r.modifier for r in rigs]),
+            **camera_columns([r.camera for r in rigs]),
+            **mount_columns([r.mount for r in rigs]),
+            **rig_extra_columns(rigs),
+        }
+        return cls(columns=columns, baseline=(baseline,))
+
+    @classmethod
+    def from_components(
+        cls,
+        telescopes: Sequence[Telescope],
+        cameras: Sequence[Camera],
+        modifiers: Sequence[Modifier | None] = (None,),
+        mounts: Sequence[Mount | None] = (None,),
+        baseline: tuple[int, int, int, int] = (0, 0, 0, 0),
+    ) -> RigBatch:
+        """A sweep batch: the cartesian product telescope × camera × modifier × mount, never built.
+
+        Each kind's columns lie along their own axis (see :data:`AXES`); rigs in a sweep carry no
+        accessories and no geometry.
+        """
+        ndim = len(AXES)
+        columns = {
+            **_along(telescope_columns(telescopes), 0, ndim),
+            **_along(camera_columns(cameras), 1, ndim),
+            **_along(modifier_columns(modifiers), 2, ndim),
+            **_along(mount_columns(mounts), 3, ndim),
+        }
+        ones = np.ones((1,) * ndim)
+        columns.update(
+            accessories_mass_kg=0.0 * ones, accessories_price=NAN * ones,
+            accessories_currency=np.full((1,) * ndim, "", dtype="U3"),
+            payload_arm_mm=NAN * ones, counterweight_kg=NAN * ones,
+        )
+        return cls(columns=columns, baseline=tuple(baseline))

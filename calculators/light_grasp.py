@@ -1,0 +1,61 @@
+"""Light grasp: clear collecting area, ratios between rigs, gain over the eye, limiting magnitude.
+
+Formulas (units in the names):
+
+* clear area  ``A = π/4 · (D² − d²)``  [mm²], D the aperture, d the central obstruction;
+* ``area_ratio = A / A_baseline``;
+* gain over the dark-adapted eye ``G = A / (π/4 · p²)`` with a pupil ``p`` of 7 mm (param);
+* visual limiting magnitude ``m = 2.7 + 5·log10(D[mm])`` — the common rule of thumb for a dark site
+  and an experienced observer (Sinnott, Sky & Telescope 1973, as commonly quoted; the constant varies
+  by author from 2.1 to 2.7 — common practice, no single authoritative value).
+
+Example: a 304.8 mm (12 in) unobstructed aperture has A = 72 966 mm², 1.19× an 11-inch.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+from pydantic import Field
+
+from calculators.base import Calculator, Output
+from calculators.batch import RigBatch
+from calculators.schemas import Strict
+
+
+class LightGraspParams(Strict):
+    eye_pupil_mm: float = Field(default=7.0, gt=0, le=10, description="Dark-adapted pupil diameter.")
+    limiting_magnitude_constant: float = Field(
+        default=2.7, ge=0, le=5, description="C in m = C + 5 log10(D[mm]) (common practice)."
+    )
+
+
+def clear_area_mm2(aperture_mm, obstruction_mm):
+    """Collecting area net of the central obstruction, π/4·(D² − d²), in mm²."""
+    return np.pi / 4 * (np.square(aperture_mm) - np.square(obstruction_mm))
+
+
+class LightGrasp(Calculator):
+    name = "light_grasp"
+    version = "1.0.0"
+    summary = "Clear collecting area, its ratio to the baseline, gain over the eye, limiting magnitude."
+    Params = LightGraspParams
+    outputs = (
+        Output("clear_area_mm2", "mm^2", "Aperture area net of the central obstruction."),
+        Output("area_ratio", "", "Clear area relative to the baseline rig.", relative=True),
+        Output("eye_gain", "", "Light gathered relative to a dark-adapted eye's pupil."),
+        Output("limiting_magnitude", "mag", "Faintest star visible by eye (rule of thumb)."),
+    )
+    sources = (
+        "Area of an annulus π/4·(D² − d²) (plane geometry).",
+        "Limiting magnitude 2.7 + 5·log10(D[mm]): common practice (Sinnott 1973 as commonly quoted).",
+    )
+
+    def compute(self, batch: RigBatch, params: LightGraspParams) -> dict[str, np.ndarray]:
+        area = clear_area_mm2(batch["aperture_mm"], batch["obstruction_mm"])
+        return {
+            "clear_area_mm2": area,
+            "area_ratio": batch.relative(area),
+            "eye_gain": area / (np.pi / 4 * params.eye_pupil_mm**2),
+            "limiting_magnitude": params.limiting_magnitude_constant
+            + 5 * np.log10(batch["aperture_mm"]),
+        }

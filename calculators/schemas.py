@@ -1,0 +1,232 @@
+"""Rig schemas: the validated, canonical-unit description of equipment that calculators read.
+
+Lengths are in millimetres and masses in kilograms (the unit is in each field name); each such
+field also accepts a string with a unit, parsed with pint (see :mod:`calculators.units`).
+Unknown fields are rejected rather than silently dropped.
+"""
+
+from __future__ import annotations
+
+from enum import StrEnum
+from typing import Annotated
+
+from pydantic import BaseModel, ConfigDict, Field, ValidationInfo, field_validator
+
+from calculators.units import (
+    NonNegativeKilograms,
+    NonNegativeMillimetres,
+    PositiveKilograms,
+    PositiveMillimetres,
+)
+
+Name = Annotated[str, Field(min_length=1, max_length=120)]
+Throughput = Annotated[float, Field(gt=0, le=1)]
+
+
+MIN_FOCAL_RATIO = 0.5
+
+
+def check_focal_ratio(ratio: float) -> None:
+    """Refuse an (effective) focal ratio below 0.5, which no real optical system reaches."""
+    if ratio < MIN_FOCAL_RATIO:
+        raise ValueError(
+            f"gives a focal ratio of {ratio:.3g}, below the physical minimum of {MIN_FOCAL_RATIO}; "
+            "check focal_length_mm, aperture_mm and the modifier factor"
+        )
+
+
+class Strict(BaseModel):
+    """Base for every input schema: unknown fields and non-finite numbers are errors."""
+
+    model_config = ConfigDict(extra="forbid", allow_inf_nan=False)
+
+
+class Price(Strict):
+    amount: float = Field(ge=0, le=1e12, description="Price in the given currency.")
+    currency: str = Field(
+        pattern=r"^[A-Z]{3}$",
+        description="ISO 4217 alphabetic currency code, e.g. EUR.",
+        examples=["EUR"],
+    )
+
+
+class Design(StrEnum):
+    """Optical designs, by their trade names."""
+
+    refractor = "refractor"
+    newtonian = "newtonian"
+    schmidt_cassegrain = "schmidt-cassegrain"
+    ritchey_chretien = "ritchey-chretien"
+    maksutov_cassegrain = "maksutov-cassegrain"
+    dall_kirkham = "dall-kirkham"
+    schmidt_newtonian = "schmidt-newtonian"
+    maksutov_newtonian = "maksutov-newtonian"
+    astrograph = "astrograph"
+    other = "other"
+
+
+# Typical total optical transmission of the bare telescope, used when `throughput` is not given.
+# Common practice (no single published source): protected aluminium ~0.90 per reflection,
+# a multi-coated refractor ~0.95, a full-aperture corrector plate or meniscus ~0.92.
+DEFAULT_THROUGHPUT: dict[Design, float] = {
+    Design.refractor: 0.95,
+    Design.newtonian: 0.81,
+    Design.schmidt_cassegrain: 0.75,
+    Design.ritchey_chretien: 0.81,
+    Design.maksutov_cassegrain: 0.75,
+    Design.dall_kirkham: 0.81,
+    Design.schmidt_newtonian: 0.75,
+    Design.maksutov_newtonian: 0.75,
+    Design.astrograph: 0.85,
+    Design.other: 0.80,
+}
+
+
+class Telescope(Strict):
+    name: Name | None = None
+    design: Design = Design.other
+    aperture_mm: PositiveMillimetres
+    focal_length_mm: PositiveMillimetres
+    obstruction_mm: NonNegativeMillimetres = Field(
+        default=0.0, description="Central obstruction diameter; 0 for an unobstructed design."
+    )
+    throughput: Throughput | None = Field(
+        default=None,
+        description="Total optical transmission 0-1; when omitted, a per-design default "
+        "(common practice) is used.",
+    )
+    mass_kg: NonNegativeKilograms | None = None
+    length_mm: PositiveMillimetres | None = None
+    tube_diameter_mm: PositiveMillimetres | None = None
+    spider_vanes: int | None = Field(default=None, ge=0, le=16)
+    mirror_thickness_mm: PositiveMillimetres | None = None
+    price: Price | None = None
+
+    # Cross-field rules are field validators (fields validate in declaration order), so the
+    # error's location names the offending field.
+    @field_validator("focal_length_mm")
+    @classmethod
+    def _focal_ratio_possible(cls, value: float, info: ValidationInfo) -> float:
+        aperture = info.data.get("aperture_mm")
+        if aperture is not None:
+            check_focal_ratio(value / aperture)
+        return value
+
+    @field_validator("obstruction_mm")
+    @classmethod
+    def _obstruction_smaller_than_aperture(cls, value: float, info: ValidationInfo) -> float:
+        aperture = info.data.get("aperture_mm")
+        if aperture is not None and value >= aperture:
+            raise ValueError(f"must be smaller than aperture_mm ({aperture:g} mm), got {value:g} mm")
+        return value
+
+    @property
+    def effective_throughput(self) -> float:
+        return self.throughput if self.throughput is not None else DEFAULT_THROUGHPUT[self.design]
+
+
+class ModifierKind(StrEnum):
+    reducer = "reducer"
+    corrector = "corrector"
+    flattener = "flattener"
+    reducer_flattener = "reducer-flattener"
+    barlow = "barlow"
+
+
+# Common practice: a few multi-coated elements pass about 97-98% of the light.
+DEFAULT_MODIFIER_THROUGHPUT: dict[ModifierKind, float] = {
+    ModifierKind.reducer: 0.97,
+    ModifierKind.corrector: 0.97,
+    ModifierKind.flattener: 0.98,
+    ModifierKind.reducer_flattener: 0.97,
+    ModifierKind.barlow: 0.96,
+}
+
+
+class Modifier(Strict):
+    name: Name | None = None
+    kind: ModifierKind
+    factor: float = Field(gt=0, le=10, description="Multiplies the telescope's focal length.")
+    throughput: Throughput | None = None
+    mass_kg: NonNegativeKilograms | None = None
+    price: Price | None = None
+    corrected_field_mm: PositiveMillimetres | None = Field(
+        default=None, description="Diameter of the well-corrected image circle, if stated."
+    )
+
+    @property
+    def effective_throughput(self) -> float:
+        if self.throughput is not None:
+            return self.throughput
+        return DEFAULT_MODIFIER_THROUGHPUT[self.kind]
+
+
+class Camera(Strict):
+    name: Name | None = None
+    pixel_size_um: float = Field(gt=0, le=100, description="Pixel pitch in micrometres.")
+    width_px: int = Field(gt=0, le=200_000)
+    height_px: int = Field(gt=0, le=200_000)
+    quantum_efficiency: float | None = Field(default=None, gt=0, le=1)
+    read_noise_e: float | None = Field(default=None, ge=0, le=1000)
+    dark_current_e_per_s: float | None = Field(default=None, ge=0, le=1e6)
+    mass_kg: NonNegativeKilograms | None = None
+    price: Price | None = None
+
+
+class MountType(StrEnum):
+    german_equatorial = "german-equatorial"
+    fork = "fork"
+    alt_azimuth = "alt-azimuth"
+    harmonic_equatorial = "harmonic-equatorial"
+    dobsonian = "dobsonian"
+    other = "other"
+
+
+class Mount(Strict):
+    name: Name | None = None
+    type: MountType = MountType.german_equatorial
+    capacity_kg: PositiveKilograms = Field(description="Rated instrument payload.")
+    mass_kg: NonNegativeKilograms | None = None
+    price: Price | None = None
+
+
+class Accessory(Strict):
+    name: Name
+    mass_kg: NonNegativeKilograms = 0.0
+    price: Price | None = None
+
+
+class Geometry(Strict):
+    """Where the payload sits on a german-equatorial mount, for moments and inertia."""
+
+    payload_arm_mm: PositiveMillimetres = Field(
+        description="Distance from the right-ascension axis to the payload's centre of mass, "
+        "along the declination axis."
+    )
+    counterweight_kg: PositiveKilograms
+
+
+class Rig(Strict):
+    name: Name
+    telescope: Telescope
+    modifier: Modifier | None = None
+    camera: Camera
+    mount: Mount | None = None
+    accessories: list[Accessory] = Field(default_factory=list, max_length=50)
+    geometry: Geometry | None = None
+
+    @field_validator("modifier")
+    @classmethod
+    def _effective_focal_ratio_possible(cls, value: Modifier | None, info: ValidationInfo):
+        telescope = info.data.get("telescope")
+        if value is not None and telescope is not None:
+            check_focal_ratio(telescope.focal_length_mm * value.factor / telescope.aperture_mm)
+        return value
+
+    @field_validator("accessories")
+    @classmethod
+    def _one_currency(cls, value: list[Accessory]) -> list[Accessory]:
+        currencies = {a.price.currency for a in value if a.price is not None}
+        if len(currencies) > 1:
+            raise ValueError(f"accessories of one rig must share a currency, got {sorted(currencies)}")
+        return value

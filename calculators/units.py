@@ -1,0 +1,94 @@
+"""Unit-bearing inputs, parsed once at the edge with pint.
+
+Every length and mass field of the schemas accepts either a plain number in the field's canonical
+unit (the unit is in the field name: ``aperture_mm``, ``mass_kg``) or a string with a unit, such as
+``"12 in"`` or ``"27 lb"``. A string of the wrong dimension, an unknown unit, NaN or infinity is a
+validation error that names the field.
+"""
+
+from __future__ import annotations
+
+import math
+import re
+from functools import cache
+from typing import Annotated, Any
+
+import pint
+from pydantic import BeforeValidator, Field
+
+
+@cache
+def unit_registry() -> pint.UnitRegistry:
+    """The one pint registry rigbench uses (built on first use, not at import)."""
+    return pint.UnitRegistry()
+
+
+def to_canonical(value: Any, unit: str) -> float:
+    """Convert a number (already in ``unit``) or a string with a unit into a float in ``unit``.
+
+    >>> to_canonical("12 in", "mm")
+    304.8
+    """
+    if isinstance(value, bool):
+        raise ValueError("expected a number or a string with a unit, not a boolean")
+    if isinstance(value, (int, float)):
+        number = float(value)
+    elif isinstance(value, str):
+        number = _parse_string(value, unit)
+    else:
+        raise ValueError(f"expected a number in {unit} or a string with a unit, e.g. '12 in'")
+    if not math.isfinite(number):
+        raise ValueError("must be a finite number (NaN and infinity are not accepted)")
+    return number
+
+
+# A number followed by a plain unit name: nothing else is evaluated, so a string such as
+# "9**9**9 mm" cannot make the parser compute a huge power.
+_QUANTITY = re.compile(
+    r"^\s*(?P<number>[-+]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][-+]?\d{1,3})?)\s*"
+    r"(?P<unit>[A-Za-zµμ_][A-Za-zµμ_ ]{0,30})?\s*$"
+)
+
+
+def _parse_string(text: str, unit: str) -> float:
+    match = _QUANTITY.match(text)
+    if match is None:
+        raise ValueError(f"cannot read {text!r}: expected a number and a unit, such as '12 in' or '305 mm'")
+    number = float(match["number"])
+    if match["unit"] is None:
+        return number
+    ureg = unit_registry()
+    try:
+        given = ureg.parse_units(match["unit"].strip())
+    except Exception:  # pint raises several error types for names it does not know
+        raise ValueError(f"unknown unit {match['unit'].strip()!r} in {text!r}") from None
+    target = ureg.parse_units(unit)
+    if given.dimensionality != target.dimensionality:
+        raise ValueError(
+            f"{text!r} is a {_dimension_name(given)}, expected a {_dimension_name(target)} "
+            f"(e.g. a value in {unit})"
+        )
+    return float(ureg.Quantity(number, given).to(target).magnitude)
+
+
+def _dimension_name(units) -> str:
+    names = {"[length]": "length", "[mass]": "mass", "[time]": "time", "[temperature]": "temperature"}
+    dimensionality = str(units.dimensionality)
+    return names.get(dimensionality, f"quantity of dimension {dimensionality}")
+
+
+def _quantity(unit: str):
+    def validate(value: Any) -> float:
+        return to_canonical(value, unit)
+
+    return BeforeValidator(validate, json_schema_input_type=float | str)
+
+
+# Annotated field types: the canonical unit is fixed here, the bounds at each field.
+Millimetres = Annotated[float, _quantity("mm")]
+Kilograms = Annotated[float, _quantity("kg")]
+
+PositiveMillimetres = Annotated[Millimetres, Field(gt=0)]
+NonNegativeMillimetres = Annotated[Millimetres, Field(ge=0)]
+PositiveKilograms = Annotated[Kilograms, Field(gt=0)]
+NonNegativeKilograms = Annotated[Kilograms, Field(ge=0)]

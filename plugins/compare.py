@@ -1,0 +1,71 @@
+"""``compare``: the Python entry point for scripts and notebooks, and the engine behind the service."""
+
+from __future__ import annotations
+
+from collections.abc import Mapping, Sequence
+from typing import Any
+
+from calculators.batch import RigBatch
+from calculators.errors import RigbenchError
+from calculators.schemas import Rig
+from plugins.registry import Registry, load_registry
+from plugins.results import CalculatorResult, Comparison, OutputValues, RigRef
+from plugins.runner import parse_params, run, to_json_values
+
+
+class BadComparison(RigbenchError, ValueError):
+    status = 422
+    title = "Invalid comparison"
+
+
+def compare(
+    rigs: Sequence[Rig | Mapping[str, Any]],
+    calculators: Sequence[str] | None = None,
+    baseline: int = 0,
+    params: Mapping[str, Mapping[str, Any]] | None = None,
+    *,
+    registry: Registry | None = None,
+    ids: Sequence[int | None] | None = None,
+) -> Comparison:
+    """Compare rigs with the named calculators (default: every loaded one).
+
+    >>> from plugins import compare
+    >>> rig = {"name": "8-inch", "telescope": {"aperture_mm": "8 in", "focal_length_mm": 1000},
+    ...        "camera": {"pixel_size_um": 3.76, "width_px": 6248, "height_px": 4176}}
+    >>> compare([rig], ["sampling"]).results["sampling"].outputs["pixel_scale_arcsec"].values
+    [0.7755...]
+    """
+    registry = registry or load_registry()
+    models = [r if isinstance(r, Rig) else Rig.model_validate(r) for r in rigs]
+    if not models:
+        raise BadComparison("rigs: give at least one rig")
+    if not 0 <= baseline < len(models):
+        raise BadComparison(f"baseline: {baseline} is not an index into the {len(models)} rigs")
+    names = list(calculators) if calculators is not None else list(registry.calculators)
+    if not names:
+        raise BadComparison("calculators: name at least one calculator")
+    params = dict(params or {})
+    chosen = {name: registry.get(name) for name in names}
+    for name in params:
+        if name not in chosen:
+            raise BadComparison(f"params: {name!r} is not among the requested calculators")
+    parsed = {name: parse_params(calc, params.get(name)) for name, calc in chosen.items()}
+    batch = RigBatch.from_rigs(models, baseline=baseline)
+    results = {}
+    for name, calc in chosen.items():
+        outcome = run(calc, batch, parsed[name])
+        results[name] = CalculatorResult(
+            version=calc.version,
+            outputs={
+                out: OutputValues(unit=outcome.units[out], values=to_json_values(values))
+                for out, values in outcome.values.items()
+            },
+            cautions=list(calc.cautions),
+            error=outcome.error,
+        )
+    ids = list(ids) if ids is not None else [None] * len(models)
+    return Comparison(
+        rigs=[RigRef(id=i, name=m.name) for i, m in zip(ids, models)],
+        baseline=baseline,
+        results=results,
+    )
