@@ -10,7 +10,6 @@ from hypothesis import strategies as st
 from pydantic import ValidationError
 from pyongc import ongc
 
-from calculators.catalogue import close_matches, lookup, pretty
 from calculators.schemas import Camera, Modifier, Rig, Telescope
 from calculators.target_fit import DEFAULT_TARGET, TargetFit, TargetFitParams, panels_along
 from example_rigs import assert_sweep_equals_rows, cameras, demo_rigs, modifiers, outputs, telescopes
@@ -28,32 +27,7 @@ def rig(focal_length_mm=1000.0, pixel_um=3.76, width=6248, height=4176) -> Rig:
     )
 
 
-# --- catalogue look-ups (the open dataset as the reference) -----------------------------------
-
-@pytest.mark.parametrize("text", ["NGC 891", "NGC891", "ngc 891", "NGC0891"])
-def test_spellings_of_a_designation_find_the_same_object(text):
-    found = lookup(text)
-    # OpenNGC through pyongc is the reference dataset: our sizes are exactly its Dso.dimensions.
-    major, minor, _ = ongc.Dso("NGC891").dimensions
-    assert (found.designation, found.major_arcmin, found.minor_arcmin) == ("NGC 891", major, minor)
-
-
-def test_messier_33_is_ngc_598():
-    # Messier's catalogue cross-identification (M 33 = NGC 598, the Triangulum Galaxy), as OpenNGC
-    # records it; also by its common name and with "Messier" spelled out.
-    for text in ("M 33", "m33", "Messier 33", "Triangulum Galaxy"):
-        found = lookup(text)
-        assert found.designation == "NGC 598"
-        assert "M 33" in found.aliases
-
-
-def test_unknown_name_lists_close_matches():
-    with pytest.raises(ValueError) as caught:
-        lookup("NGC 8910")
-    assert "close matches" in str(caught.value)
-    assert "NGC 891" in close_matches("NGC 8910")
-    assert close_matches("Andromeda") == ["Andromeda Galaxy"]
-
+# --- params validation ----------------------------------------------------------------------
 
 def test_unknown_target_is_a_validation_error_naming_the_param():
     with pytest.raises(ValidationError) as caught:
@@ -81,12 +55,6 @@ def test_default_target_is_named_in_the_docstring():
 
     assert f'**default "{DEFAULT_TARGET}"**' in module.__doc__
     assert TargetFitParams().target == DEFAULT_TARGET
-
-
-def test_pretty_names():
-    assert pretty("NGC0598") == "NGC 598"
-    assert pretty("IC0434") == "IC 434"
-    assert pretty("Mel022") == "Mel 22"
 
 
 # --- reference tests -------------------------------------------------------------------------
