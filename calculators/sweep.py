@@ -1,0 +1,557 @@
+"""Purchase evaluation: every combination of candidate equipment, filtered by constraints, with the
+Pareto front and a ranking on the objectives — without one Python object per combination.
+
+How it works:
+
+1. The component lists become one sweep batch (:meth:`RigBatch.from_components`): telescope columns
+   lie along axis 0, cameras along 1, modifiers along 2, mounts along 3. A calculator's output is
+   computed over the axes it depends on only (a focal ratio over telescopes × modifiers), and
+   broadcasting builds the full product only where an output needs all four kinds.
+2. Only the calculators named in the constraints and objectives run, in chunks of whole telescopes
+   (at most ``chunk_rows`` combinations each, one telescope at least) to bound memory. A chunk that
+   does not hold the baseline telescope gets it prepended, so relative outputs keep their meaning,
+   and its row is dropped after computing; results do not depend on the chunk size.
+3. Each constraint becomes a boolean mask at its output's own shape; the masks are combined by
+   broadcasting. A combination is **feasible** when every constrained output and every objective
+   output is a finite number and every constraint holds (bounds are inclusive).
+4. Over the feasible combinations: the exact Pareto front of the objectives
+   (:mod:`calculators.pareto`; equal objective values are all on the front) and the ``limit`` best by
+   **score**: each objective is scaled linearly to 0 at its best feasible value and 1 at its worst
+   (0 when all feasible values are equal) and the scaled values are added; equal scores go to the
+   better objective values in the order given, then to the lower indices. A strictly positive
+   weighted sum never ranks a combination before one that dominates it, so the first ``top`` row
+   is always on the front.
+5. The returned rows' values are computed once more on a small one-row-per-combination batch, the
+   same way a comparison of those rigs computes them.
+
+Indices order combinations telescope-major: ``(telescope, camera, modifier, mount)`` compared in
+that order.
+
+Example::
+
+    >>> from calculators.light_grasp import LightGrasp
+    >>> from calculators.schemas import Camera, Telescope
+    >>> scopes = [Telescope(aperture_mm=a, focal_length_mm=1000) for a in (100, 200, 150)]
+    >>> result = evaluate(scopes, [Camera(pixel_size_um=3.76, width_px=6248, height_px=4176)],
+    ...                   objectives={"light_grasp.clear_area_mm2": "max"},
+    ...                   constraints={"light_grasp.area_ratio": {"max": 3}},
+    ...                   calculators={"light_grasp": LightGrasp()})
+    >>> result.evaluated, result.feasible, [row.indices.telescope for row in result.front]
+    (3, 2, [2])
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Callable, Mapping, Sequence
+from dataclasses import dataclass, field
+from typing import Any
+
+import numpy as np
+from pydantic import BaseModel, ValidationError
+
+from calculators.base import Calculator, Output
+from calculators.batch import AXES, RigBatch
+from calculators.errors import CalculationError, RigbenchError
+from calculators.evaluation_schemas import (
+    Bounds,
+    EvaluationResult,
+    EvaluationRow,
+    EvaluationSpec,
+    Ids,
+    Indices,
+)
+from calculators.pareto import front_of
+from calculators.schemas import Camera, Modifier, Mount, Telescope
+
+#: Default largest cartesian product one evaluation may sweep.
+DEFAULT_MAX_COMBINATIONS = 5_000_000
+
+#: Default largest number of combinations computed at once (memory is about 8 bytes per
+#: combination for each output that depends on all four kinds, plus the masks).
+DEFAULT_CHUNK_ROWS = 1 << 20
+
+Progress = Callable[[int, int], None]
+
+# Bounds used for a side left open: comparing with the largest finite float also refuses NaN and
+# infinities, so a feasible row's constrained values are always finite numbers.
+_LARGEST = float(np.finfo(np.float64).max)
+
+
+class EvaluationError(RigbenchError, ValueError):
+    """An evaluation request that cannot be answered; ``loc`` names the offending field."""
+
+    status = 422
+    title = "Invalid evaluation"
+
+    def __init__(self, message: str, loc: Sequence[str | int] = ()):
+        super().__init__(message)
+        self.loc = tuple(loc)
+
+
+class UnknownOutput(EvaluationError):
+    title = "Unknown output"
+
+
+class NotNumeric(EvaluationError):
+    title = "Output is not numeric"
+
+
+class ContradictoryBounds(EvaluationError):
+    title = "Contradictory bounds"
+
+
+class TooManyCombinations(EvaluationError):
+    title = "Too many combinations"
+
+
+class InvalidCalculatorParams(EvaluationError):
+    """Params for a calculator failed validation; ``errors`` holds pydantic's error list."""
+
+    title = "Invalid calculator params"
+
+    def __init__(self, calculator: str, error: ValidationError):
+        self.errors = [
+            {**e, "loc": ("params", calculator, *e["loc"])}
+            for e in error.errors(include_url=False, include_context=False, include_input=False)
+        ]
+        super().__init__(
+            f"params for {calculator!r}: "
+            + "; ".join(f"{'.'.join(map(str, e['loc'][2:])) or '(root)'}: {e['msg']}"
+                        for e in self.errors),
+            loc=("params", calculator),
+        )
+
+
+class CalculatorFailed(EvaluationError, CalculationError):
+    """A calculator refused or failed on these components (e.g. prices in several currencies)."""
+
+    title = "Cannot compute"
+
+
+@dataclass(frozen=True)
+class OutputKey:
+    """A resolved ``"<calculator>.<output>"`` key."""
+
+    key: str
+    calculator: str
+    output: Output
+
+
+@dataclass
+class _Plan:
+    """One calculator to run: its params and the outputs the evaluation reads."""
+
+    calculator: Calculator
+    params: BaseModel
+    outputs: list[str] = field(default_factory=list)
+    first_loc: tuple[str, str] = ("objectives", "")
+
+
+def evaluate(
+    telescopes: Sequence[Telescope],
+    cameras: Sequence[Camera],
+    modifiers: Sequence[Modifier | None] = (None,),
+    mounts: Sequence[Mount | None] = (None,),
+    *,
+    objectives: Mapping[str, str],
+    constraints: Mapping[str, Bounds | Mapping[str, float | None]] | None = None,
+    params: Mapping[str, Mapping[str, Any] | BaseModel] | None = None,
+    baseline: Indices | Sequence[int] | None = None,
+    limit: int = 20,
+    calculators: Mapping[str, Calculator],
+    ids: Mapping[str, Sequence[int | None]] | None = None,
+    max_combinations: int = DEFAULT_MAX_COMBINATIONS,
+    chunk_rows: int = DEFAULT_CHUNK_ROWS,
+    progress: Progress | None = None,
+) -> EvaluationResult:
+    """Sweep telescopes × cameras × modifiers × mounts; return counts, the front and the top rows.
+
+    ``calculators`` maps names to calculators (e.g. ``registry.calculators``); ``ids`` optionally
+    gives stored ids per kind (``{"telescope": [7, None, ...], ...}``, aligned with the lists);
+    ``progress(done, total)`` is called after each chunk. Raises an :class:`EvaluationError`
+    (a :class:`RigbenchError`) naming the field for every bad input, before any heavy work.
+    """
+    lists = (list(telescopes), list(cameras), list(modifiers), list(mounts))
+    sizes = tuple(len(items) for items in lists)
+    for kind, size in zip(AXES, sizes):
+        if size == 0:
+            hint = " (null means none)" if kind in ("modifier", "mount") else ""
+            raise EvaluationError(f"{kind}s: give at least one {kind}{hint}", loc=(f"{kind}s",))
+    evaluated = math.prod(sizes)
+    if evaluated > max_combinations:
+        raise TooManyCombinations(
+            f"{' × '.join(map(str, sizes))} = {evaluated:,} combinations exceed the maximum of "
+            f"{max_combinations:,}; shorten a list of candidates",
+            loc=(),
+        )
+    base = _baseline(baseline, sizes)
+    if isinstance(limit, bool) or not isinstance(limit, int) or limit < 0:
+        raise EvaluationError(f"limit: must be a whole number ≥ 0, got {limit!r}", loc=("limit",))
+    if chunk_rows < 1:
+        raise ValueError("chunk_rows must be at least 1")
+    id_lists = _ids(ids, sizes)
+    bounds, directions, plans = _plan(constraints or {}, objectives, params or {}, calculators)
+
+    batch = RigBatch.from_components(*lists, baseline=base)
+    units: dict[str, str] = {}
+    for name, plan in plans.items():
+        # Called on the whole sweep batch first, so a calculator that refuses a batch as a whole
+        # (prices in several currencies) refuses it whatever the chunking.
+        calc_units = _guarded(plan, lambda p=plan: p.calculator.output_units(batch, p.params))
+        units.update({f"{name}.{out}": calc_units.get(out, "") for out in plan.outputs})
+
+    positions, columns, feasible = _sweep(batch, plans, bounds, directions, chunk_rows, progress)
+
+    on_front = np.flatnonzero(front_of(columns)) if positions.size else np.zeros(0, np.intp)
+    front = on_front[np.lexsort([positions[on_front]] + [c[on_front] for c in columns[::-1]])]
+    scores = _scores(columns)
+    top = _best(scores, columns, positions, limit)
+
+    base_flat = int(np.ravel_multi_index(base, sizes))
+    rows_flat = np.unique(np.concatenate(([base_flat], positions[front], positions[top])))
+    values = _row_values(batch, plans, rows_flat, sizes, base_flat)
+    keys = list(dict.fromkeys([*bounds, *directions]))
+
+    def row(flat: int, score: float | None) -> EvaluationRow:
+        # Built without re-validation: the front can hold thousands of rows of trusted numbers.
+        at = int(np.searchsorted(rows_flat, flat))
+        index = dict(zip(AXES, (int(i) for i in np.unravel_index(flat, sizes))))
+        return EvaluationRow.model_construct(
+            indices=Indices.model_construct(**index),
+            ids=Ids.model_construct(**{kind: id_lists[kind][i] for kind, i in index.items()}),
+            values={key: _number(values[key][at]) for key in keys},
+            score=score,
+        )
+
+    at_base = int(np.searchsorted(positions, base_flat))
+    base_feasible = at_base < positions.size and int(positions[at_base]) == base_flat
+    return EvaluationResult(
+        evaluated=evaluated,
+        feasible=feasible,
+        front=[row(int(positions[i]), float(scores[i])) for i in front],
+        top=[row(int(positions[i]), float(scores[i])) for i in top],
+        baseline=row(base_flat, float(scores[at_base]) if base_feasible else None),
+        baseline_feasible=base_feasible,
+        units={key: units[key] for key in keys},
+        cautions={name: list(p.calculator.cautions) for name, p in plans.items()
+                  if p.calculator.cautions},
+    )
+
+
+def evaluate_spec(
+    telescopes: Sequence[Telescope],
+    cameras: Sequence[Camera],
+    modifiers: Sequence[Modifier | None],
+    mounts: Sequence[Mount | None],
+    spec: EvaluationSpec,
+    **options: Any,
+) -> EvaluationResult:
+    """:func:`evaluate` with the choices of a validated request model (``options``: calculators,
+    ids, max_combinations, chunk_rows, progress)."""
+    return evaluate(
+        telescopes, cameras, modifiers, mounts,
+        objectives=spec.objectives, constraints=spec.constraints, params=spec.params,
+        baseline=spec.baseline, limit=spec.limit, **options,
+    )
+
+
+# --- validation -----------------------------------------------------------------------------
+
+
+def _baseline(baseline: Indices | Sequence[int] | None, sizes: tuple[int, ...]) -> tuple[int, ...]:
+    if baseline is None:
+        return (0, 0, 0, 0)
+    if isinstance(baseline, Indices):
+        values = tuple(getattr(baseline, kind) for kind in AXES)
+    else:
+        values = tuple(baseline)
+        if len(values) != len(AXES):
+            raise EvaluationError(
+                f"baseline: give one index per kind ({', '.join(AXES)})", loc=("baseline",)
+            )
+    for kind, index, size in zip(AXES, values, sizes):
+        if isinstance(index, bool) or not isinstance(index, (int, np.integer)) \
+                or not 0 <= index < size:
+            raise EvaluationError(
+                f"baseline.{kind}: {index!r} is not an index into the {size} {kind}s "
+                f"(0..{size - 1})",
+                loc=("baseline", kind),
+            )
+    return tuple(int(i) for i in values)
+
+
+def _ids(ids: Mapping[str, Sequence[int | None]] | None, sizes) -> dict[str, list[int | None]]:
+    out = {kind: [None] * size for kind, size in zip(AXES, sizes)}
+    for kind, given in (ids or {}).items():
+        if kind not in out:
+            raise ValueError(f"ids: unknown kind {kind!r}; expected one of {', '.join(AXES)}")
+        given = list(given)
+        if len(given) != len(out[kind]):
+            raise ValueError(f"ids[{kind!r}] has {len(given)} entries for {len(out[kind])} {kind}s")
+        out[kind] = given
+    return out
+
+
+def resolve_key(key: str, where: str, calculators: Mapping[str, Calculator]) -> OutputKey:
+    """Resolve ``"<calculator>.<output>"``; refuse unknown names and non-numeric outputs."""
+    name, dot, output = key.partition(".")
+    loc = (where, key)
+    if not dot or not name or not output:
+        raise UnknownOutput(
+            f'{where}: {key!r} is not of the form "<calculator>.<output>", '
+            'e.g. "light_grasp.clear_area_mm2"',
+            loc=loc,
+        )
+    calculator = calculators.get(name)
+    if calculator is None:
+        known = ", ".join(sorted(calculators)) or "none"
+        raise UnknownOutput(
+            f"{where}: {key!r} names no loaded calculator {name!r}; available: {known}", loc=loc
+        )
+    for declared in calculator.outputs:
+        if declared.name == output:
+            if declared.kind != "number":
+                raise NotNumeric(
+                    f"{where}: {key!r} is a {declared.kind} output; only numeric outputs can be "
+                    "constrained or optimised",
+                    loc=loc,
+                )
+            return OutputKey(key, name, declared)
+    known = ", ".join(o.name for o in calculator.outputs)
+    raise UnknownOutput(
+        f"{where}: {key!r}: calculator {name!r} has no output {output!r}; its outputs: {known}",
+        loc=loc,
+    )
+
+
+def _plan(constraints, objectives, params, calculators):
+    if not objectives:
+        raise EvaluationError("objectives: name at least one output to optimise",
+                              loc=("objectives",))
+    bounds: dict[str, tuple[float, float]] = {}
+    directions: dict[str, str] = {}
+    plans: dict[str, _Plan] = {}
+
+    def need(resolved: OutputKey, where: str) -> None:
+        plan = plans.get(resolved.calculator)
+        if plan is None:
+            plan = plans[resolved.calculator] = _Plan(
+                calculators[resolved.calculator], params=None, first_loc=(where, resolved.key)
+            )
+        if resolved.output.name not in plan.outputs:
+            plan.outputs.append(resolved.output.name)
+
+    for key, raw in constraints.items():
+        resolved = resolve_key(key, "constraints", calculators)
+        bounds[key] = _bounds(key, raw)
+        need(resolved, "constraints")
+    for key, direction in objectives.items():
+        resolved = resolve_key(key, "objectives", calculators)
+        if direction not in ("min", "max"):
+            raise EvaluationError(
+                f'objectives: {key!r} must be "min" or "max", got {direction!r}',
+                loc=("objectives", key),
+            )
+        directions[key] = direction
+        need(resolved, "objectives")
+    for name in params:
+        if name not in plans:
+            raise EvaluationError(
+                f"params: {name!r} is not a calculator named in the constraints or objectives",
+                loc=("params", name),
+            )
+    for name, plan in plans.items():
+        plan.params = _params(plan.calculator, name, params.get(name))
+    return bounds, directions, plans
+
+
+def _bounds(key: str, raw: Bounds | Mapping[str, float | None]) -> tuple[float, float]:
+    loc = ("constraints", key)
+    if not isinstance(raw, Bounds):
+        try:
+            raw = Bounds.model_validate(raw)
+        except ValidationError as exc:
+            detail = "; ".join(f"{'.'.join(map(str, e['loc']))}: {e['msg']}" for e in exc.errors())
+            raise EvaluationError(f"constraints: {key!r}: {detail}", loc=loc) from None
+    if raw.min is None and raw.max is None:
+        raise EvaluationError(f"constraints: {key!r}: give min, max or both", loc=loc)
+    if raw.min is not None and raw.max is not None and raw.min > raw.max:
+        raise ContradictoryBounds(
+            f"constraints: {key!r}: min {raw.min:g} is greater than max {raw.max:g}, "
+            "so no combination can meet it",
+            loc=loc,
+        )
+    return (-_LARGEST if raw.min is None else raw.min, _LARGEST if raw.max is None else raw.max)
+
+
+def _params(calculator: Calculator, name: str, raw) -> BaseModel:
+    if isinstance(raw, calculator.Params):
+        return raw
+    try:
+        return calculator.Params.model_validate(raw or {})
+    except ValidationError as exc:
+        raise InvalidCalculatorParams(name, exc) from None
+
+
+# --- computing ------------------------------------------------------------------------------
+
+
+def _guarded(plan: _Plan, call: Callable[[], Any]) -> Any:
+    """Run a calculator call; any failure becomes a :class:`CalculatorFailed` naming the field."""
+    name = plan.calculator.name
+    try:
+        with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+            return call()
+    except RigbenchError as exc:
+        raise CalculatorFailed(f"{name}: {exc}", loc=plan.first_loc) from exc
+    except Exception as exc:  # isolation: a broken plugin must not become a server error
+        raise CalculatorFailed(
+            f"{name} failed: {type(exc).__name__}: {exc}", loc=plan.first_loc
+        ) from exc
+
+
+def _compute(plans: Mapping[str, _Plan], batch: RigBatch) -> dict[str, np.ndarray]:
+    """The needed outputs of every planned calculator, each as an array with the batch's number
+    of axes that broadcasts to the batch's shape (never expanded)."""
+    out: dict[str, np.ndarray] = {}
+    ndim = len(batch.shape)
+    for name, plan in plans.items():
+        raw = _guarded(plan, lambda p=plan: p.calculator.compute(batch, p.params))
+        for output in plan.outputs:
+            problem = None
+            if not isinstance(raw, Mapping) or output not in raw:
+                problem = f"did not return its declared output {output!r}"
+            else:
+                values = np.asarray(raw[output])
+                if not np.issubdtype(values.dtype, np.number) or np.iscomplexobj(values):
+                    problem = f"output {output!r} is not numeric"
+                elif values.ndim > ndim or np.broadcast_shapes(values.shape, batch.shape) \
+                        != batch.shape:
+                    problem = (f"output {output!r} has shape {values.shape}, which does not fit "
+                               f"the batch's {batch.shape}")
+            if problem:
+                raise CalculatorFailed(f"{name} failed: {problem}", loc=plan.first_loc)
+            out[f"{name}.{output}"] = values.reshape((1,) * (ndim - values.ndim) + values.shape)
+    return out
+
+
+def _chunk(batch: RigBatch, start: int, stop: int) -> tuple[RigBatch, int]:
+    """Telescopes ``start:stop`` of a sweep batch, with the baseline telescope prepended when it
+    lies outside; returns the batch and how many leading telescope rows to drop afterwards."""
+    n_telescopes = batch.shape[0]
+    if start == 0 and stop == n_telescopes:
+        return batch, 0
+    bt = batch.baseline[0]
+    inside = start <= bt < stop
+    columns = {}
+    for name, column in batch.columns.items():
+        if np.ndim(column) and np.shape(column)[0] > 1:  # varies along the telescope axis
+            part = column[start:stop]
+            columns[name] = part if inside else np.concatenate((column[bt:bt + 1], part))
+        else:
+            columns[name] = column
+    baseline = (bt - start if inside else 0, *batch.baseline[1:])
+    return RigBatch(columns=columns, baseline=baseline), 0 if inside else 1
+
+
+def _sweep(batch, plans, bounds, directions, chunk_rows, progress):
+    """Feasible positions (flat, telescope-major) and their objective values, oriented so that
+    smaller is better, over every chunk; plus the feasible count."""
+    n_telescopes, *rest = batch.shape
+    per_telescope = math.prod(rest)
+    step = max(1, chunk_rows // per_telescope)
+    starts = range(0, n_telescopes, step)
+    positions: list[np.ndarray] = []
+    parts: list[list[np.ndarray]] = [[] for _ in directions]
+    feasible = 0
+    for done, start in enumerate(starts, 1):
+        stop = min(n_telescopes, start + step)
+        chunk, drop = _chunk(batch, start, stop)
+        values = _compute(plans, chunk)
+        if drop:
+            values = {k: v[drop:] if v.shape[0] > 1 else v for k, v in values.items()}
+        shape = (stop - start, *rest)
+        mask = _mask(values, bounds, directions)
+        feasible += int(np.count_nonzero(mask)) * (math.prod(shape) // mask.size)
+        full = np.broadcast_to(mask, shape)
+        where = np.flatnonzero(full)
+        positions.append(where + start * per_telescope)
+        for part, (key, direction) in zip(parts, directions.items()):
+            picked = _take(values[key], shape, where)
+            part.append(np.negative(picked, out=picked) if direction == "max" else picked)
+        if progress is not None:
+            progress(done, len(starts))
+    flat = np.concatenate(positions).astype(np.int64, copy=False)
+    return flat, [np.concatenate(p) for p in parts], feasible
+
+
+def _mask(values, bounds, directions) -> np.ndarray:
+    """Feasibility at the smallest shape the outputs allow (broadcast it to the chunk's shape)."""
+    masks = []
+    for key, (low, high) in bounds.items():
+        v = values[key]
+        masks.append((v >= low) & (v <= high))
+    for key in directions:
+        if key not in bounds:  # a bound already refuses NaN and infinities
+            masks.append(np.isfinite(values[key]))
+    masks.sort(key=lambda m: m.size)  # combine the small masks before the big ones
+    mask = masks[0]
+    for m in masks[1:]:
+        mask = mask & m
+    return mask
+
+
+def _take(values: np.ndarray, shape: tuple[int, ...], where: np.ndarray) -> np.ndarray:
+    """Float64 values at flat positions of the broadcast product."""
+    full = values if values.shape == shape else np.broadcast_to(values, shape)
+    flat = np.ascontiguousarray(full, dtype=np.float64).reshape(-1)
+    return np.take(flat, where)
+
+
+def _scores(columns: list[np.ndarray]) -> np.ndarray:
+    """Sum over objectives of the value scaled to 0 (best feasible) .. 1 (worst feasible)."""
+    n = columns[0].shape[0] if columns else 0
+    score = np.zeros(n)
+    if n == 0:
+        return score
+    for c in columns:
+        low, high = c.min(), c.max()
+        span = high - low
+        if span > 0 and np.isfinite(span):
+            score += (c - low) / span
+        elif span > 0:  # the range overflows a float: scale in two steps
+            score += (c / 2 - low / 2) / (high / 2 - low / 2)
+    return score
+
+
+def _best(scores, columns, positions, limit: int) -> np.ndarray:
+    """Indices of the ``limit`` best rows: by score, then objective values in order, then index."""
+    n = scores.shape[0]
+    if limit == 0 or n == 0:
+        return np.zeros(0, dtype=np.intp)
+    if n > limit:
+        kth = np.partition(scores, limit - 1)[limit - 1]
+        candidates = np.flatnonzero(scores <= kth)
+    else:
+        candidates = np.arange(n)
+    keys = [positions[candidates]] + [c[candidates] for c in columns[::-1]] + [scores[candidates]]
+    return candidates[np.lexsort(keys)[:limit]]
+
+
+def _row_values(batch, plans, rows_flat, sizes, base_flat) -> dict[str, np.ndarray]:
+    """Outputs for a few combinations, as a comparison of those rigs computes them: one row each."""
+    index = np.unravel_index(rows_flat, sizes)
+    columns = {}
+    for name, column in batch.columns.items():
+        column = np.asarray(column)
+        picked = column[tuple(ix if n > 1 else 0 for ix, n in zip(index, column.shape))]
+        columns[name] = np.broadcast_to(picked, rows_flat.shape)
+    rows = RigBatch(columns=columns, baseline=(int(np.searchsorted(rows_flat, base_flat)),))
+    values = _compute(plans, rows)
+    return {key: np.broadcast_to(v, rows.shape) for key, v in values.items()}
+
+
+def _number(value) -> float | None:
+    value = float(value)
+    return value if math.isfinite(value) else None
