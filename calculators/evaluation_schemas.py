@@ -106,9 +106,10 @@ class EvaluationResult(BaseModel):
         "first objective (best first), then the next ones, then by indices."
     )
     top: list[EvaluationRow] = Field(
-        description="The best `limit` feasible combinations by score: each objective is scaled to "
-        "0 (best feasible value) .. 1 (worst feasible value) and the scaled values are added; ties "
-        "go to the better objective values in order, then to the lower indices."
+        description="The best `limit` feasible combinations by score, best first. Score: each "
+        "objective scaled to 0 at its best feasible value (ideal point) and 1 at its worst value "
+        "on the front (nadir point), summed over the objectives; ties go to the better objective "
+        "values in the order given, then to the lower indices."
     )
     baseline: EvaluationRow = Field(description="The baseline combination, feasible or not.")
     baseline_feasible: bool

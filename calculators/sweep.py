@@ -15,13 +15,20 @@ How it works:
    broadcasting. A combination is **feasible** when every constrained output and every objective
    output is a finite number and every constraint holds (bounds are inclusive).
 4. Over the feasible combinations: the exact Pareto front of the objectives
-   (:mod:`calculators.pareto`; equal objective values are all on the front) and the ``limit`` best by
-   **score**: each objective is scaled linearly to 0 at its best feasible value and 1 at its worst
-   (0 when all feasible values are equal) and the scaled values are added; equal scores go to the
-   better objective values in the order given, then to the lower indices. A strictly positive
-   weighted sum never ranks a combination before one that dominates it, so the first ``top`` row
-   is always on the front.
-5. The returned rows' values are computed once more on a small one-row-per-combination batch, the
+   (:mod:`calculators.pareto`; equal objective values are all on the front), found after an exact
+   reduction — where an objective varies along axes no other objective does (the price over
+   cameras and mounts, when the exposure time depends on telescope and modifier only), only the
+   best value along those axes can be on the front.
+5. The ``limit`` best feasible combinations by **score** (lower is better): each objective is
+   scaled linearly to 0 at the ideal point (its best feasible value) and 1 at the nadir point (its
+   worst value among the front rows), and the scaled values are added; an objective on which all
+   front rows agree does not count. Equal scores go to the better objective values in the order
+   given, then to the lower indices. The weights are positive, so no combination ranks before one
+   that dominates it and the first ``top`` row is always on the front. (Ideal and nadir points are
+   the usual normalisation of multi-objective decision making, e.g. Miettinen, *Nonlinear
+   Multiobjective Optimization*, 1999 — from memory.) With several chunks this needs the
+   whole front first, so the chunks are computed a second time; one chunk is reused.
+6. The returned rows' values are computed once more on a small one-row-per-combination batch, the
    same way a comparison of those rigs computes them.
 
 Indices order combinations telescope-major: ``(telescope, camera, modifier, mount)`` compared in
@@ -191,7 +198,9 @@ def evaluate(
     if chunk_rows < 1:
         raise ValueError("chunk_rows must be at least 1")
     id_lists = _ids(ids, sizes)
-    bounds, directions, plans = _plan(constraints or {}, objectives, params or {}, calculators)
+    bounds, directions, nullable, plans = _plan(
+        constraints or {}, objectives, params or {}, calculators
+    )
 
     batch = RigBatch.from_components(*lists, baseline=base)
     units: dict[str, str] = {}
@@ -201,15 +210,12 @@ def evaluate(
         calc_units = _guarded(plan, lambda p=plan: p.calculator.output_units(batch, p.params))
         units.update({f"{name}.{out}": calc_units.get(out, "") for out in plan.outputs})
 
-    positions, columns, feasible = _sweep(batch, plans, bounds, directions, chunk_rows, progress)
-
-    on_front = np.flatnonzero(front_of(columns)) if positions.size else np.zeros(0, np.intp)
-    front = on_front[np.lexsort([positions[on_front]] + [c[on_front] for c in columns[::-1]])]
-    scores = _scores(columns)
-    top = _best(scores, columns, positions, limit)
+    feasible, front, top, base_score = _sweep(
+        batch, plans, bounds, directions, nullable, chunk_rows, limit, progress
+    )
 
     base_flat = int(np.ravel_multi_index(base, sizes))
-    rows_flat = np.unique(np.concatenate(([base_flat], positions[front], positions[top])))
+    rows_flat = np.unique(np.concatenate(([base_flat], front.positions, top.positions)))
     values = _row_values(batch, plans, rows_flat, sizes, base_flat)
     keys = list(dict.fromkeys([*bounds, *directions]))
 
@@ -224,15 +230,13 @@ def evaluate(
             score=score,
         )
 
-    at_base = int(np.searchsorted(positions, base_flat))
-    base_feasible = at_base < positions.size and int(positions[at_base]) == base_flat
     return EvaluationResult(
         evaluated=evaluated,
         feasible=feasible,
-        front=[row(int(positions[i]), float(scores[i])) for i in front],
-        top=[row(int(positions[i]), float(scores[i])) for i in top],
-        baseline=row(base_flat, float(scores[at_base]) if base_feasible else None),
-        baseline_feasible=base_feasible,
+        front=[row(int(p), float(s)) for p, s in zip(front.positions, front.scores)],
+        top=[row(int(p), float(s)) for p, s in zip(top.positions, top.scores)],
+        baseline=row(base_flat, base_score),
+        baseline_feasible=base_score is not None,
         units={key: units[key] for key in keys},
         cautions={name: list(p.calculator.cautions) for name, p in plans.items()
                   if p.calculator.cautions},
@@ -331,6 +335,7 @@ def _plan(constraints, objectives, params, calculators):
                               loc=("objectives",))
     bounds: dict[str, tuple[float, float]] = {}
     directions: dict[str, str] = {}
+    nullable: set[str] = set()
     plans: dict[str, _Plan] = {}
 
     def need(resolved: OutputKey, where: str) -> None:
@@ -354,6 +359,8 @@ def _plan(constraints, objectives, params, calculators):
                 loc=("objectives", key),
             )
         directions[key] = direction
+        if resolved.output.nullable:
+            nullable.add(key)
         need(resolved, "objectives")
     for name in params:
         if name not in plans:
@@ -363,7 +370,7 @@ def _plan(constraints, objectives, params, calculators):
             )
     for name, plan in plans.items():
         plan.params = _params(plan.calculator, name, params.get(name))
-    return bounds, directions, plans
+    return bounds, directions, nullable, plans
 
 
 def _bounds(key: str, raw: Bounds | Mapping[str, float | None]) -> tuple[float, float]:
@@ -455,88 +462,249 @@ def _chunk(batch: RigBatch, start: int, stop: int) -> tuple[RigBatch, int]:
     return RigBatch(columns=columns, baseline=baseline), 0 if inside else 1
 
 
-def _sweep(batch, plans, bounds, directions, chunk_rows, progress):
-    """Feasible positions (flat, telescope-major) and their objective values, oriented so that
-    smaller is better, over every chunk; plus the feasible count."""
+@dataclass
+class _Chunk:
+    """One chunk's computed outputs: telescopes ``start:`` of the sweep, ``shape`` combinations."""
+
+    start: int
+    shape: tuple[int, ...]
+    full: np.ndarray  # feasibility, broadcast to ``shape`` (a view)
+    oriented: list[np.ndarray]  # objective values, smaller is better, each at its own shape
+    feasible: int
+    masked: dict[int, np.ndarray] = field(default_factory=dict)
+
+    def masked_values(self, j: int) -> np.ndarray:
+        """Objective ``j`` at its own shape, +inf where no feasible combination has it."""
+        if j not in self.masked:
+            o = self.oriented[j]
+            self.masked[j] = np.where(_reduce_mask(self.full, o.shape), o, np.inf)
+        return self.masked[j]
+
+
+@dataclass
+class _Ranked:
+    """Rows picked out of the sweep: flat positions, oriented objective values, scores."""
+
+    positions: np.ndarray
+    columns: list[np.ndarray]
+    scores: np.ndarray | None = None
+
+    def take(self, pick: np.ndarray) -> _Ranked:
+        return _Ranked(self.positions[pick], [c[pick] for c in self.columns],
+                       None if self.scores is None else self.scores[pick])
+
+
+def _sweep(batch, plans, bounds, directions, nullable, chunk_rows, limit, progress):
+    """Pass 1 over the chunks: counts and the front. Pass 2: the top rows by score, whose scale
+    comes from the whole front (with a single chunk, its arrays are reused instead)."""
     n_telescopes, *rest = batch.shape
     per_telescope = math.prod(rest)
     step = max(1, chunk_rows // per_telescope)
-    starts = range(0, n_telescopes, step)
-    positions: list[np.ndarray] = []
-    parts: list[list[np.ndarray]] = [[] for _ in directions]
+    spans = [(s, min(n_telescopes, s + step)) for s in range(0, n_telescopes, step)]
+    single = len(spans) == 1
+    total = len(spans) * (1 if single or not limit else 2)
+    done = 0
+
+    def chunks():
+        nonlocal done
+        for start, stop in spans:
+            chunk = _evaluate_chunk(batch, plans, bounds, directions, nullable, start, stop)
+            done += 1
+            if progress is not None:
+                progress(done, total)
+            yield chunk
+
+    k = len(directions)
     feasible = 0
-    for done, start in enumerate(starts, 1):
-        stop = min(n_telescopes, start + step)
-        chunk, drop = _chunk(batch, start, stop)
-        values = _compute(plans, chunk)
-        if drop:
-            values = {k: v[drop:] if v.shape[0] > 1 else v for k, v in values.items()}
-        shape = (stop - start, *rest)
-        mask = _mask(values, bounds, directions)
-        feasible += int(np.count_nonzero(mask)) * (math.prod(shape) // mask.size)
-        full = np.broadcast_to(mask, shape)
-        where = np.flatnonzero(full)
-        positions.append(where + start * per_telescope)
-        for part, (key, direction) in zip(parts, directions.items()):
-            picked = _take(values[key], shape, where)
-            part.append(np.negative(picked, out=picked) if direction == "max" else picked)
-        if progress is not None:
-            progress(done, len(starts))
-    flat = np.concatenate(positions).astype(np.int64, copy=False)
-    return flat, [np.concatenate(p) for p in parts], feasible
+    fronts: list[_Ranked] = []
+    base_flat = int(np.ravel_multi_index(batch.baseline, batch.shape))
+    base_columns = None  # the baseline's oriented objective values when it is feasible
+    kept = None
+    for chunk in chunks():
+        feasible += chunk.feasible
+        kept = chunk if single else None
+        if not chunk.feasible:
+            continue
+        offset = chunk.start * per_telescope
+        local = _front_candidates(chunk)
+        candidates = _Ranked(local + offset, _gather(chunk.oriented, chunk.shape, local))
+        fronts.append(candidates.take(front_of(candidates.columns)))
+        base_at = base_flat - offset
+        if 0 <= base_at < math.prod(chunk.shape) and chunk.full[
+                np.unravel_index(base_at, chunk.shape)]:
+            base_columns = _gather(chunk.oriented, chunk.shape, np.array([base_at]))
+
+    front = _merge(fronts, k)
+    front = front.take(front_of(front.columns) if front.positions.size else np.zeros(0, bool))
+    front = front.take(np.lexsort([front.positions] + front.columns[::-1]))
+    # Scale of the score: the ideal point (best value of each objective) and the nadir point
+    # (worst value of each objective on the front).
+    low = [float(c.min()) if c.size else 0.0 for c in front.columns]
+    high = [float(c.max()) if c.size else 0.0 for c in front.columns]
+    front.scores = _row_scores(front.columns, low, high)
+
+    tops: list[_Ranked] = []
+    if limit and feasible:
+        for chunk in ([kept] if single else chunks()):
+            if chunk.feasible:
+                tops.append(_chunk_best(chunk, low, high, limit, per_telescope))
+    top = _best(_merge(tops, k), limit)
+    if progress is not None and done < total:  # nothing feasible: no second pass to report
+        progress(total, total)
+    base_score = None if base_columns is None else float(_row_scores(base_columns, low, high)[0])
+    return feasible, front, top, base_score
 
 
-def _mask(values, bounds, directions) -> np.ndarray:
-    """Feasibility at the smallest shape the outputs allow (broadcast it to the chunk's shape)."""
+def _evaluate_chunk(batch, plans, bounds, directions, nullable, start, stop) -> _Chunk:
+    chunk_batch, drop = _chunk(batch, start, stop)
+    values = _compute(plans, chunk_batch)
+    if drop:
+        values = {k: v[drop:] if v.shape[0] > 1 else v for k, v in values.items()}
+    shape = (stop - start, *batch.shape[1:])
     masks = []
     for key, (low, high) in bounds.items():
         v = values[key]
-        masks.append((v >= low) & (v <= high))
-    for key in directions:
-        if key not in bounds:  # a bound already refuses NaN and infinities
-            masks.append(np.isfinite(values[key]))
+        masks.append((v >= low) & (v <= high))  # also refuses NaN and infinities
+    oriented = []
+    for key, direction in directions.items():
+        v = values[key].astype(np.float64, copy=False)
+        if key in nullable:
+            if key not in bounds:  # a bound already refuses undefined values
+                masks.append(np.isfinite(v))
+        elif not np.isfinite(v).all():
+            raise CalculatorFailed(
+                f"{key} gave undefined or infinite values although it declares its values always "
+                "defined", loc=("objectives", key))
+        oriented.append(-v if direction == "max" else v)
     masks.sort(key=lambda m: m.size)  # combine the small masks before the big ones
-    mask = masks[0]
-    for m in masks[1:]:
+    mask = np.ones((1,) * len(shape), dtype=bool)
+    for m in masks:
         mask = mask & m
-    return mask
+    feasible = int(np.count_nonzero(mask)) * (math.prod(shape) // mask.size)
+    return _Chunk(start, shape, np.broadcast_to(mask, shape), oriented, feasible)
 
 
-def _take(values: np.ndarray, shape: tuple[int, ...], where: np.ndarray) -> np.ndarray:
-    """Float64 values at flat positions of the broadcast product."""
-    full = values if values.shape == shape else np.broadcast_to(values, shape)
-    flat = np.ascontiguousarray(full, dtype=np.float64).reshape(-1)
-    return np.take(flat, where)
+def _reduce_mask(full: np.ndarray, shape: tuple[int, ...]) -> np.ndarray:
+    """Feasibility at an output's own shape: true where any combination it stands for is."""
+    axes = tuple(a for a, (n, m) in enumerate(zip(full.shape, shape)) if m == 1 and n > 1)
+    return full.any(axis=axes, keepdims=True) if axes else full
 
 
-def _scores(columns: list[np.ndarray]) -> np.ndarray:
-    """Sum over objectives of the value scaled to 0 (best feasible) .. 1 (worst feasible)."""
-    n = columns[0].shape[0] if columns else 0
-    score = np.zeros(n)
-    if n == 0:
-        return score
-    for c in columns:
-        low, high = c.min(), c.max()
-        span = high - low
-        if span > 0 and np.isfinite(span):
-            score += (c - low) / span
-        elif span > 0:  # the range overflows a float: scale in two steps
-            score += (c / 2 - low / 2) / (high / 2 - low / 2)
+def _front_candidates(chunk: _Chunk) -> np.ndarray:
+    """Flat positions in the chunk that may be on the front: feasible and, for an objective that
+    varies along axes no other objective does, the best value along those axes. (Feasible rows
+    that differ only along such axes share every other objective, so the better one dominates.)
+    Drops only dominated rows; it shrinks what the exact front has to look at."""
+    candidates = chunk.full
+    varies = [{a for a, n in enumerate(o.shape) if n > 1} for o in chunk.oriented]
+    for j in range(len(varies)):
+        others = set().union(*(v for i, v in enumerate(varies) if i != j))
+        own = tuple(sorted(varies[j] - others))
+        if own:
+            masked = chunk.masked_values(j)
+            candidates = candidates & (masked == masked.min(axis=own, keepdims=True))
+    return np.flatnonzero(np.broadcast_to(candidates, chunk.shape))
+
+
+def _gather(oriented: list[np.ndarray], shape, local: np.ndarray) -> list[np.ndarray]:
+    """Objective values at flat positions of the chunk, without expanding any array."""
+    index = np.unravel_index(local, shape)
+    out = []
+    for o in oriented:
+        picked = o[tuple(ix if n > 1 else 0 for ix, n in zip(index, o.shape))]
+        out.append(picked if picked.shape == local.shape else np.full(local.shape, picked))
+    return out
+
+
+def _term(values: np.ndarray, low: float, high: float) -> np.ndarray | None:
+    """One objective scaled to 0 at ``low`` and 1 at ``high``; None when they are equal."""
+    if not high > low:
+        return None
+    span = high - low
+    if not np.isfinite(span):  # the range overflows a float: scale in two steps
+        return (values / 2 - low / 2) / (high / 2 - low / 2)
+    term = values - low
+    term /= span
+    return term
+
+
+def _score(columns, low, high) -> np.ndarray | None:
+    """Sum of the scaled objectives, added in objective order: the same float operations whether
+    ``columns`` are broadcast arrays or gathered rows, so both give the same scores."""
+    score = None
+    for c, lo, hi in zip(columns, low, high):
+        term = _term(c, lo, hi)
+        if term is None:
+            continue
+        if score is None:
+            score = term
+        elif np.broadcast_shapes(score.shape, term.shape) == score.shape:
+            score += term
+        else:
+            score = score + term
     return score
 
 
-def _best(scores, columns, positions, limit: int) -> np.ndarray:
-    """Indices of the ``limit`` best rows: by score, then objective values in order, then index."""
-    n = scores.shape[0]
-    if limit == 0 or n == 0:
-        return np.zeros(0, dtype=np.intp)
-    if n > limit:
-        kth = np.partition(scores, limit - 1)[limit - 1]
-        candidates = np.flatnonzero(scores <= kth)
+def _row_scores(columns, low, high) -> np.ndarray:
+    n = columns[0].shape[0]
+    score = _score(columns, low, high)
+    return np.zeros(n) if score is None else np.broadcast_to(score, (n,)).astype(np.float64)
+
+
+def _chunk_best(chunk: _Chunk, low, high, limit: int, per_telescope: int) -> _Ranked:
+    """The chunk's ``limit`` best rows (the whole sweep's best are among the chunks' best)."""
+    # Scaling a +inf-masked full-size objective carries the infeasible rows' +inf into the score,
+    # which then needs no masking of its own.
+    columns = list(chunk.oriented)
+    for j, o in enumerate(chunk.oriented):
+        if j in chunk.masked and o.shape == chunk.shape and high[j] > low[j]:
+            columns[j] = chunk.masked[j]
+            break
     else:
-        candidates = np.arange(n)
-    keys = [positions[candidates]] + [c[candidates] for c in columns[::-1]] + [scores[candidates]]
-    return candidates[np.lexsort(keys)[:limit]]
+        j = None
+    score = _score(columns, low, high)
+    if score is None:
+        score = np.zeros((1,) * len(chunk.shape))
+    if j is None:
+        score = np.where(chunk.full, score, np.inf)
+    flat = np.ascontiguousarray(np.broadcast_to(score, chunk.shape)).reshape(-1)
+    if chunk.feasible > limit:
+        kth = np.partition(flat, limit - 1)[limit - 1]
+        local = np.flatnonzero(flat <= kth)
+    else:
+        local = np.flatnonzero(flat < np.inf)
+    ranked = _Ranked(local + chunk.start * per_telescope,
+                     _gather(chunk.oriented, chunk.shape, local), flat[local])
+    return _best(ranked, limit)
+
+
+def _merge(parts: list[_Ranked], k: int) -> _Ranked:
+    if not parts:
+        return _Ranked(np.zeros(0, np.int64), [np.zeros(0)] * k, np.zeros(0))
+    scores = None if parts[0].scores is None else np.concatenate([p.scores for p in parts])
+    return _Ranked(np.concatenate([p.positions for p in parts]).astype(np.int64, copy=False),
+                   [np.concatenate([p.columns[j] for p in parts]) for j in range(k)], scores)
+
+
+def _best(ranked: _Ranked, limit: int) -> _Ranked:
+    """The ``limit`` best rows, in order: by score, then objective values in order, then position."""
+    keys = [ranked.scores, *ranked.columns, ranked.positions]
+    pick = _smallest(keys, np.arange(ranked.positions.shape[0]), limit)
+    pick = pick[np.lexsort([key[pick] for key in keys[::-1]])]
+    return ranked.take(pick)
+
+
+def _smallest(keys: list[np.ndarray], rows: np.ndarray, limit: int) -> np.ndarray:
+    """The ``limit`` lexicographically smallest ``rows`` by ``keys`` (unordered), without sorting
+    them all: rows below the first key's cut-off are in; ties at it compete on the next keys."""
+    if rows.shape[0] <= limit or not keys:
+        return rows[:limit]
+    if limit == 0:
+        return rows[:0]
+    values = keys[0][rows]
+    kth = np.partition(values, limit - 1)[limit - 1]
+    below = rows[values < kth]
+    return np.concatenate((below, _smallest(keys[1:], rows[values == kth], limit - below.size)))
 
 
 def _row_values(batch, plans, rows_flat, sizes, base_flat) -> dict[str, np.ndarray]:

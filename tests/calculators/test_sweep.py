@@ -152,11 +152,13 @@ def reference(combos, values, constraints, objectives, limit):
         )
 
     front = sorted((i for i in feasible if not dominated(i)), key=lambda i: (oriented[i], i))
+    # Scale: 0 at the ideal point (best value per objective), 1 at the nadir point (worst value
+    # per objective among the front rows); an objective all front rows agree on does not count.
     scores = {}
     for i in feasible:
         score = 0.0
         for j in range(len(objectives)):
-            column = [oriented[f][j] for f in feasible]
+            column = [oriented[f][j] for f in front]
             low, high = min(column), max(column)
             if high > low:
                 score += (oriented[i][j] - low) / (high - low)
@@ -210,14 +212,24 @@ def test_results_do_not_depend_on_chunk_size(case, data):
     assert run(chunk_rows) == run(10**9)
 
 
-def test_progress_reports_every_chunk():
+def test_progress_reports_every_chunk_of_both_passes():
     scopes = [Telescope(aperture_mm=100 + 10 * i, focal_length_mm=600) for i in range(5)]
-    calls = []
-    evaluate(scopes, [Camera(pixel_size_um=3.76, width_px=10, height_px=10)], [None, None],
-             objectives={"light_grasp.clear_area_mm2": "max"}, calculators=CALCULATORS,
-             chunk_rows=4, progress=lambda done, total: calls.append((done, total)))
-    # 2 combinations per telescope, 4 per chunk: telescopes in chunks of 2, so 3 chunks.
-    assert calls == [(1, 3), (2, 3), (3, 3)]
+    camera = [Camera(pixel_size_um=3.76, width_px=10, height_px=10)]
+
+    def calls(**options):
+        seen = []
+        evaluate(scopes, camera, [None, None], objectives={"light_grasp.clear_area_mm2": "max"},
+                 calculators=CALCULATORS, progress=lambda done, total: seen.append((done, total)),
+                 **options)
+        return seen
+
+    # 2 combinations per telescope, 4 per chunk: telescopes in chunks of 2, so 3 chunks, each
+    # computed twice (ranges first, then the ranking); once when no ranking is asked for.
+    assert calls(chunk_rows=4) == [(i, 6) for i in range(1, 7)]
+    assert calls(chunk_rows=4, limit=0) == [(1, 3), (2, 3), (3, 3)]
+    assert calls() == [(1, 1)]
+    nothing = {"light_grasp.clear_area_mm2": {"min": 1e9}}
+    assert calls(chunk_rows=4, constraints=nothing)[-1] == (6, 6)
 
 
 def test_null_modifier_leaves_the_focal_ratio_of_the_telescope():
