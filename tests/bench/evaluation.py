@@ -42,7 +42,7 @@ SHAPE = (100, 50, 10, 20)  # telescopes, cameras, modifiers, mounts
 REPEATS = 7
 SAMPLE = 300  # combinations sent one at a time through compare()
 PIXEL_SCALE = (0.7, 2.5)  # arcsec per pixel, inclusive
-CAPACITY_FRACTION = 0.8  # of the mount's rated capacity (a common-practice imaging margin)
+CAPACITY_FRACTION = 0.8  # of the mount's rated capacity (a bound chosen for the benchmark)
 
 BUILT_IN = {
     "pixel_scale": "sampling.pixel_scale_arcsec",

@@ -232,6 +232,38 @@ def test_progress_reports_every_chunk_of_both_passes():
     assert calls(chunk_rows=4, constraints=nothing)[-1] == (6, 6)
 
 
+class ShapeSpy(LightGrasp):
+    """light_grasp that records the shapes of the batches it is handed."""
+
+    def __init__(self):
+        self.seen = []
+
+    def compute(self, batch, params):
+        self.seen.append((batch.shape, batch["aperture_mm"].shape, batch["pixel_size_um"].shape,
+                          batch["modifier_factor"].shape, batch["capacity_kg"].shape))
+        return super().compute(batch, params)
+
+
+def test_each_kind_lies_on_its_own_axis_and_chunks_bound_the_batch():
+    spy = ShapeSpy()
+    scopes = [Telescope(aperture_mm=100 + i, focal_length_mm=700) for i in range(7)]
+    cams = [Camera(pixel_size_um=3 + i, width_px=10, height_px=10) for i in range(3)]
+    mods = [None, Modifier(kind="reducer", factor=0.8)]
+    mnts = [Mount(capacity_kg=10), Mount(capacity_kg=20)]
+    evaluate(scopes, cams, mods, mnts, objectives={"light_grasp.area_ratio": "max"},
+             baseline=(5, 0, 0, 0), calculators={"light_grasp": spy}, chunk_rows=25)
+    sweep_shapes = [s for s in spy.seen if len(s[0]) == 4]
+    # 12 combinations per telescope, 25 per chunk: 2 telescopes a chunk (plus the baseline
+    # telescope prepended where it is missing), 4 chunks, each computed in both passes.
+    assert [s[0] for s in sweep_shapes] == [(3, 3, 2, 2), (3, 3, 2, 2), (2, 3, 2, 2),
+                                            (2, 3, 2, 2)] * 2
+    for shape, aperture, pixel, factor, capacity in sweep_shapes:
+        assert aperture == (shape[0], 1, 1, 1) and pixel == (1, 3, 1, 1)
+        assert factor == (1, 1, 2, 1) and capacity == (1, 1, 1, 2)
+    # The returned rows are computed once more, one row per combination.
+    assert all(len(s[0]) == 1 for s in spy.seen if s not in sweep_shapes)
+
+
 def test_null_modifier_leaves_the_focal_ratio_of_the_telescope():
     # Definition of the focal ratio N = f/D: 1000 mm / 200 mm = 5; a ×0.8 reducer gives f/4.
     scope = Telescope(aperture_mm=200, focal_length_mm=1000)
