@@ -120,28 +120,34 @@ def _staircase_survivors(x: np.ndarray, y: np.ndarray) -> np.ndarray:
 
 def _front_nd(cols: list[np.ndarray]) -> np.ndarray:
     n = cols[0].shape[0]
-    # Presort so that strong points (small normalised sum) act first and prune the most.
+    # Strong points (small sum of min-max normalised values) act first and prune the most; a
+    # partial selection of the next block avoids sorting every point.
     score = np.zeros(n)
     for c in cols:
         lo, hi = c.min(), c.max()
         if hi > lo and np.isfinite(hi - lo):
             score += (c - lo) / (hi - lo)
-    index = np.argsort(score, kind="stable")
-    points = np.stack([c[index] for c in cols], axis=1)
-    start = 0  # points[:start] have already served as dominators
-    while start < points.shape[0]:
-        m = points.shape[0]
-        size = max(1, min(m - start, _BLOCK_ELEMENTS // m))
-        block = points[start:start + size]
-        no_worse = np.ones((size, m), dtype=bool)
-        better = np.zeros((size, m), dtype=bool)
-        for i in range(points.shape[1]):
-            b, q = block[:, i, None], points[None, :, i]
+    points = np.stack(cols)  # (k, n): one contiguous row per objective
+    index = np.arange(n)
+    served = np.zeros(n, dtype=bool)  # has been compared against every remaining point
+    while True:
+        waiting = np.flatnonzero(~served)
+        if waiting.size == 0:
+            break
+        m = index.size
+        size = max(1, min(waiting.size, _BLOCK_ELEMENTS // m))
+        if size < waiting.size:
+            waiting = waiting[np.argpartition(score[waiting], size - 1)[:size]]
+        no_worse = np.ones((waiting.size, m), dtype=bool)
+        better = np.zeros((waiting.size, m), dtype=bool)
+        for row in points:
+            b, q = row[waiting, None], row[None, :]
             no_worse &= b <= q
             better |= b < q
+        served[waiting] = True
         keep = ~(no_worse & better).any(axis=0)
-        start = int(np.count_nonzero(keep[:start + size]))
-        points, index = points[keep], index[keep]
+        if not keep.all():
+            points, score, served, index = points[:, keep], score[keep], served[keep], index[keep]
     mask = np.zeros(n, dtype=bool)
     mask[index] = True
     return mask
