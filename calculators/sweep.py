@@ -13,7 +13,9 @@ How it works:
    and its row is dropped after computing; results do not depend on the chunk size.
 3. Each constraint becomes a boolean mask at its output's own shape; the masks are combined by
    broadcasting. A combination is **feasible** when every constrained output and every objective
-   output is a finite number and every constraint holds (bounds are inclusive).
+   output is a finite number and every constraint holds (bounds are inclusive). A combination
+   whose effective focal ratio is below the physical minimum the ``Rig`` schema enforces is not a
+   rig, so it is never feasible (it still counts in ``evaluated``).
 4. Over the feasible combinations: the exact Pareto front of the objectives
    (:mod:`calculators.pareto`; equal objective values are all on the front), found after an exact
    reduction — where an objective varies along axes no other objective does (the price over
@@ -69,7 +71,7 @@ from calculators.evaluation_schemas import (
     Indices,
 )
 from calculators.pareto import front_of
-from calculators.schemas import Camera, Modifier, Mount, Telescope
+from calculators.schemas import MIN_FOCAL_RATIO, Camera, Modifier, Mount, Telescope
 
 #: Default largest cartesian product one evaluation may sweep.
 DEFAULT_MAX_COMBINATIONS = 5_000_000
@@ -561,7 +563,11 @@ def _evaluate_chunk(batch, plans, bounds, directions, nullable, start, stop) -> 
     if drop:
         values = {k: v[drop:] if v.shape[0] > 1 else v for k, v in values.items()}
     shape = (stop - start, *batch.shape[1:])
-    masks = []
+    # A telescope and modifier giving an effective focal ratio below the physical minimum do not
+    # make a rig (the Rig schema refuses it), so that combination is never feasible.
+    focal_ratio = (batch["focal_length_mm"][start:stop] * batch["modifier_factor"]
+                   / batch["aperture_mm"][start:stop])
+    masks = [focal_ratio >= MIN_FOCAL_RATIO]
     for key, (low, high) in bounds.items():
         v = values[key]
         masks.append((v >= low) & (v <= high))  # also refuses NaN and infinities

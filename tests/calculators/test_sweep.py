@@ -274,6 +274,19 @@ def test_null_modifier_leaves_the_focal_ratio_of_the_telescope():
     assert [r.values["optics.focal_ratio"] for r in result.front] == [pytest.approx(4.0, rel=1e-15)]
 
 
+def test_a_combination_the_rig_schema_refuses_is_never_feasible():
+    # f/1 with a ×0.4 reducer would be f/0.4, below the 0.5 minimum the Rig schema enforces.
+    scope = Telescope(aperture_mm=100, focal_length_mm=100)
+    reducer = Modifier(kind="reducer", factor=0.4)
+    camera = Camera(pixel_size_um=3.76, width_px=10, height_px=10)
+    with pytest.raises(ValueError, match="below the physical minimum"):
+        Rig(name="too fast", telescope=scope, modifier=reducer, camera=camera)
+    result = evaluate([scope], [camera], [None, reducer],
+                      objectives={"optics.focal_ratio": "min"}, calculators=CALCULATORS)
+    assert (result.evaluated, result.feasible) == (2, 1)
+    assert [r.indices.modifier for r in result.front] == [0]
+
+
 def test_equal_objective_values_are_all_on_the_front():
     same = Telescope(aperture_mm=150, focal_length_mm=750)
     result = evaluate([same, Telescope(aperture_mm=100, focal_length_mm=500), same],
