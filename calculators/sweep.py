@@ -178,8 +178,10 @@ def evaluate(
 
     ``calculators`` maps names to calculators (e.g. ``registry.calculators``); ``ids`` optionally
     gives stored ids per kind (``{"telescope": [7, None, ...], ...}``, aligned with the lists);
-    ``progress(done, total)`` is called after each chunk. Raises an :class:`EvaluationError`
-    (a :class:`RigbenchError`) naming the field for every bad input, before any heavy work.
+    ``progress(done, total)`` is called after each chunk computed. Every bad input raises an
+    :class:`EvaluationError` (a :class:`RigbenchError` and ``ValueError``) whose ``loc`` names the
+    field, before any heavy work; a calculator that refuses or fails on the components raises
+    :class:`CalculatorFailed` (also a :class:`CalculationError`).
     """
     lists = (list(telescopes), list(cameras), list(modifiers), list(mounts))
     sizes = tuple(len(items) for items in lists)
@@ -435,14 +437,23 @@ def _compute(plans: Mapping[str, _Plan], batch: RigBatch) -> dict[str, np.ndarra
                 values = np.asarray(raw[output])
                 if not np.issubdtype(values.dtype, np.number) or np.iscomplexobj(values):
                     problem = f"output {output!r} is not numeric"
-                elif values.ndim > ndim or np.broadcast_shapes(values.shape, batch.shape) \
-                        != batch.shape:
+                elif not _fits(values.shape, batch.shape):
                     problem = (f"output {output!r} has shape {values.shape}, which does not fit "
                                f"the batch's {batch.shape}")
             if problem:
                 raise CalculatorFailed(f"{name} failed: {problem}", loc=plan.first_loc)
             out[f"{name}.{output}"] = values.reshape((1,) * (ndim - values.ndim) + values.shape)
     return out
+
+
+def _fits(shape: tuple[int, ...], target: tuple[int, ...]) -> bool:
+    """Whether an array of ``shape`` broadcasts to ``target`` without growing it."""
+    if len(shape) > len(target):
+        return False
+    try:
+        return np.broadcast_shapes(shape, target) == target
+    except ValueError:
+        return False
 
 
 def _chunk(batch: RigBatch, start: int, stop: int) -> tuple[RigBatch, int]:

@@ -122,7 +122,7 @@ class Broken(Calculator):
 
 
 class Misshapen(Calculator):
-    """Returns an array that does not broadcast to the batch."""
+    """Returns an array that cannot broadcast against the batch."""
 
     name = "misshapen"
     version = "0.0.1"
@@ -131,7 +131,7 @@ class Misshapen(Calculator):
     sources = ("None.",)
 
     def compute(self, batch: RigBatch, params) -> dict[str, np.ndarray]:
-        return {"value": np.zeros(batch.size + 1)}
+        return {"value": np.zeros((batch.shape[0] + 1,) + (1,) * (len(batch.shape) - 1))}
 
 
 STAND_INS = (Optics(), Load(), Price())
