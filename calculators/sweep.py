@@ -211,8 +211,9 @@ def evaluate(
     for name, plan in plans.items():
         # Called on the whole sweep batch first, so a calculator that refuses a batch as a whole
         # (prices in several currencies) refuses it whatever the chunking.
-        calc_units = _guarded(plan, lambda p=plan: p.calculator.output_units(batch, p.params))
-        units.update({f"{name}.{out}": calc_units.get(out, "") for out in plan.outputs})
+        given = _guarded(plan, lambda p=plan: dict(p.calculator.output_units(batch, p.params)))
+        declared = {o.name: o.unit for o in plan.calculator.outputs}
+        units.update({f"{name}.{out}": str(given.get(out, declared[out])) for out in plan.outputs})
 
     feasible, front, top, base_score = _sweep(
         batch, plans, bounds, directions, nullable, chunk_rows, limit, progress
