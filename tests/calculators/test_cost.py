@@ -67,6 +67,7 @@ def units(*rig_list, **params):
 
 @given(amounts, st.none() | amounts, st.none() | amounts, st.none() | amounts,
        st.lists(st.none() | amounts, max_size=3))
+@settings(deadline=None)
 def test_total_is_the_sum_of_the_priced_components(telescope, camera, modifier, mount, accessories):
     r = rig(telescope, camera, modifier, mount, accessories)
     priced = [p for p in (telescope, camera, modifier, mount, *accessories) if p is not None]
@@ -75,6 +76,7 @@ def test_total_is_the_sum_of_the_priced_components(telescope, camera, modifier, 
 
 
 @given(st.lists(amounts, min_size=1, max_size=4), st.floats(0.01, 100))
+@settings(deadline=None)
 def test_exchange_rates_convert_each_price_before_adding(amounts_usd, rate):
     r = rig(telescope=1000.0, camera=amounts_usd[0], mount=None, currency="EUR")
     data = r.model_dump()
@@ -86,6 +88,7 @@ def test_exchange_rates_convert_each_price_before_adding(amounts_usd, rate):
 
 
 @given(rigs(), st.floats(0.1, 10))
+@settings(deadline=None)
 def test_price_per_cm2_scales_inversely_with_the_clear_area(r, k):
     t = r.telescope
     small = rig(telescope=500.0, aperture_mm=t.aperture_mm, obstruction_mm=t.obstruction_mm)
@@ -96,6 +99,7 @@ def test_price_per_cm2_scales_inversely_with_the_clear_area(r, k):
 
 
 @given(rig_lists(max_size=5))
+@settings(deadline=None, max_examples=50)
 def test_batch_results_equal_single_rig_results_row_by_row(rig_list):
     assert_batch_equals_single_rigs(CALC, rig_list)
 

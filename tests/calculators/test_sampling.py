@@ -46,6 +46,7 @@ def outputs(*rig_list, **params):
 # --- properties ----------------------------------------------------------------------------------
 
 @given(rigs(), st.floats(0.2, 5))
+@settings(deadline=None)
 def test_pixel_scale_is_inversely_proportional_to_focal_length(r, k):
     f = r.telescope.focal_length_mm
     out = outputs(rig(f, r.camera.pixel_size_um), rig(f * k, r.camera.pixel_size_um))
@@ -53,6 +54,7 @@ def test_pixel_scale_is_inversely_proportional_to_focal_length(r, k):
 
 
 @given(rigs(), st.floats(0.5, 2.5))
+@settings(deadline=None)
 def test_a_modifier_scales_the_pixel_scale_by_its_factor(r, factor):
     f = r.telescope.focal_length_mm
     out = outputs(rig(f, r.camera.pixel_size_um), rig(f, r.camera.pixel_size_um, factor=factor))
@@ -60,6 +62,7 @@ def test_a_modifier_scales_the_pixel_scale_by_its_factor(r, factor):
 
 
 @given(rigs())
+@settings(deadline=None)
 def test_diagonal_field_satisfies_the_pythagorean_relation_of_half_angle_tangents(r):
     # tan(diag/2)² = tan(w/2)² + tan(h/2)² exactly, since the half-sizes over f form a right triangle.
     out = outputs(r)
@@ -71,6 +74,7 @@ def test_diagonal_field_satisfies_the_pythagorean_relation_of_half_angle_tangent
 
 
 @given(rigs())
+@settings(deadline=None)
 def test_field_is_no_wider_than_pixel_count_times_pixel_scale(r):
     # 2·atan(x) ≤ 2x, equal to first order: for small fields the two agree.
     out = outputs(r)
@@ -84,6 +88,7 @@ def test_field_is_no_wider_than_pixel_count_times_pixel_scale(r):
 
 
 @given(rigs(), st.floats(0.5, 6), st.floats(0.5, 4), st.floats(0, 4))
+@settings(deadline=None)
 def test_verdict_follows_pixels_per_fwhm_against_the_stated_band(r, seeing, low, width):
     params = {"seeing_fwhm_arcsec": seeing, "min_pixels_per_fwhm": low, "max_pixels_per_fwhm": low + width}
     out = outputs(r, **params)
@@ -94,6 +99,7 @@ def test_verdict_follows_pixels_per_fwhm_against_the_stated_band(r, seeing, low,
 
 
 @given(rigs(), st.floats(0.3, 8), st.integers(1, 8))
+@settings(deadline=None)
 def test_suggested_binning_is_the_coarsest_that_keeps_the_minimum(r, seeing, max_binning):
     out = outputs(r, seeing_fwhm_arcsec=seeing, max_binning=max_binning)
     ppf, b = out["pixels_per_fwhm"][0], int(out["suggested_binning"][0])
@@ -105,6 +111,7 @@ def test_suggested_binning_is_the_coarsest_that_keeps_the_minimum(r, seeing, max
 
 
 @given(rig_lists(max_size=5))
+@settings(deadline=None, max_examples=50)
 def test_batch_results_equal_single_rig_results_row_by_row(rig_list):
     assert_batch_equals_single_rigs(CALC, rig_list)
 

@@ -48,6 +48,7 @@ apertures = st.floats(50, 500)
 # --- properties ----------------------------------------------------------------------------------
 
 @given(rigs(), st.floats(0.2, 5))
+@settings(deadline=None)
 def test_scaling_aperture_and_focal_length_together_leaves_focal_ratio_and_time_factor_per_pixel_unchanged(r, k):
     t = r.telescope
     plain = rig(t.aperture_mm, t.focal_length_mm, r.camera.pixel_size_um, t.obstruction_mm,
@@ -63,6 +64,7 @@ def test_scaling_aperture_and_focal_length_together_leaves_focal_ratio_and_time_
 
 
 @given(apertures, ratios, apertures, ratios, st.floats(1.5, 15), st.floats(0.5, 1))
+@settings(deadline=None)
 def test_time_factor_per_pixel_is_the_focal_ratio_squared_for_equal_pixels_and_throughput(
     d0, n0, d1, n1, pixel_um, tau
 ):
@@ -73,6 +75,7 @@ def test_time_factor_per_pixel_is_the_focal_ratio_squared_for_equal_pixels_and_t
 
 
 @given(rigs())
+@settings(deadline=None)
 def test_time_factors_of_a_rig_against_itself_are_one(r):
     out = outputs(r, r)
     for name in TIME_FACTORS:
@@ -80,6 +83,7 @@ def test_time_factors_of_a_rig_against_itself_are_one(r):
 
 
 @given(rigs(), rigs(), rigs())
+@settings(deadline=None, max_examples=50)
 def test_time_factors_multiply_through_a_third_rig(a, b, c):
     via_a, via_b = outputs(a, b, c), outputs(a, b, c, baseline=1)
     for name in TIME_FACTORS:
@@ -87,6 +91,7 @@ def test_time_factors_multiply_through_a_third_rig(a, b, c):
 
 
 @given(rigs(), st.floats(0.5, 1.0))
+@settings(deadline=None)
 def test_a_reducer_shortens_the_time_per_pixel_but_not_per_unit_sky_area(r, factor):
     t = r.telescope
     assume(t.focal_length_mm * factor / t.aperture_mm >= 0.5)
@@ -99,6 +104,7 @@ def test_a_reducer_shortens_the_time_per_pixel_but_not_per_unit_sky_area(r, fact
 
 
 @given(rigs(), st.floats(0.3, 1.0))
+@settings(deadline=None)
 def test_time_factors_are_inversely_proportional_to_throughput(r, tau):
     t = r.telescope
     full = rig(t.aperture_mm, t.focal_length_mm, throughput=1.0)
@@ -109,6 +115,7 @@ def test_time_factors_are_inversely_proportional_to_throughput(r, tau):
 
 
 @given(rig_lists(max_size=5))
+@settings(deadline=None, max_examples=50)
 def test_batch_results_equal_single_rig_results_row_by_row(rig_list):
     assert_batch_equals_single_rigs(CALC, rig_list)
 

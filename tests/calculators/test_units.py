@@ -68,6 +68,7 @@ def test_inches_and_pounds_scale_by_their_exact_definitions(value):
 
 
 @given(finite)
+@settings(deadline=None)
 def test_plain_numbers_pass_through_unchanged(value):
     assert to_canonical(value, "mm") == value
     assert to_canonical(np.float64(value), "kg") == value
