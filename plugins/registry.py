@@ -267,6 +267,8 @@ def load_registry(
     ``time_budget_s`` bounds each third-party ``compute`` call (see :func:`plugins.runner.run`);
     built-ins always run inline, without a budget.
     """
+    if time_budget_s is not None and not time_budget_s > 0:
+        raise ValueError(f"a time budget must be a positive number of seconds, got {time_budget_s!r}")
     if eps is None:
         eps = entry_points(group=GROUP)
     disabled_names = {d.strip() for d in disabled if d.strip()}
