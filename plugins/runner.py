@@ -81,6 +81,14 @@ class TimeBudgetExceeded(RuntimeError):
     """A third-party compute took longer than its time budget."""
 
 
+class _Escaped(Exception):
+    """Carries a BaseException that is not an Exception (SystemExit…) out of a worker thread."""
+
+    def __init__(self, original: BaseException):
+        super().__init__(original)
+        self.original = original
+
+
 def parse_params(calculator: Calculator, raw: Mapping[str, Any] | BaseModel | None) -> BaseModel:
     if isinstance(raw, calculator.Params):
         return raw
@@ -132,7 +140,8 @@ def run(calculator: Calculator, batch: RigBatch, params: BaseModel) -> Run:
     except TimeBudgetExceeded as exc:
         result.values, result.error = {}, f"{calculator.name} {exc}"
     except Exception as exc:  # isolation: a broken calculator must not take the request down
-        result.values, result.error = {}, f"{calculator.name} failed: {type(exc).__name__}: {exc}"
+        shown = exc.original if isinstance(exc, _Escaped) else exc
+        result.values, result.error = {}, f"{calculator.name} failed: {type(shown).__name__}: {shown}"
     return result
 
 
@@ -164,9 +173,7 @@ def _call_with_budget(
         raise TimeBudgetExceeded(f"exceeded its time budget of {budget:g} s")
     if "error" in box:
         error = box["error"]
-        if isinstance(error, Exception):
-            raise error
-        raise RuntimeError(f"{type(error).__name__}: {error}")
+        raise error if isinstance(error, Exception) else _Escaped(error)
     return box["raw"], box["units"]
 
 

@@ -202,7 +202,8 @@ class ReturnsInfinity(Good):
     name = "returns_infinity"
 
     def compute(self, batch, params):
-        return {"scaled_aperture_mm": batch["aperture_mm"] / 0.0}
+        with np.errstate(divide="ignore"):
+            return {"scaled_aperture_mm": batch["aperture_mm"] / 0.0}
 
 
 class NullableNaN(Good):
