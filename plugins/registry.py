@@ -34,7 +34,7 @@ from pydantic import BaseModel
 from calculators.base import Calculator, Output
 from calculators.errors import RigbenchError
 from calculators.units import unit_registry
-from plugins.runner import DEFAULT_TIME_BUDGET_S, set_time_budget
+from plugins.runner import DEFAULT_TIME_BUDGET_S, set_time_budget, time_budget
 
 GROUP = "rigbench.calculators"
 BUILTIN_DISTRIBUTION = "rigbench"
@@ -103,6 +103,12 @@ class Registry:
     def unknown(self, name: str) -> UnknownCalculator:
         known = ", ".join(sorted(self.calculators))
         return UnknownCalculator(f"no calculator named {name!r}; available: {known}")
+
+    def runs_third_party(self, names: Iterable[str]) -> bool:
+        """Whether any of the named loaded calculators is third-party, so computing them may wait on
+        a time budget: an async caller should then run the comparison in a worker thread."""
+        calculators = self.calculators
+        return any(time_budget(calculators[n]) is not None for n in names if n in calculators)
 
     def distributions(self) -> dict[str, list[CalculatorEntry]]:
         """Entries grouped by the distribution that advertised them, rigbench first."""

@@ -66,6 +66,13 @@ def test_built_ins_run_inline_and_plugins_under_the_time_budget():
     assert time_budget(registry.get("good")) == DEFAULT_TIME_BUDGET_S
 
 
+def test_runs_third_party_tells_whether_a_comparison_may_wait_on_a_budget():
+    registry = load_registry([builtin(*LIGHT_GRASP), entry_point("good", "plugin_fakes:Good")])
+    assert not registry.runs_third_party(["light_grasp"])
+    assert registry.runs_third_party(["light_grasp", "good"])
+    assert not registry.runs_third_party(["no_such_calculator"])
+
+
 def test_two_registries_share_no_state():
     first = load_registry([entry_point("good", "plugin_fakes:Good")], time_budget_s=1.0)
     second = load_registry([entry_point("good", "plugin_fakes:Good")], time_budget_s=3.0)
