@@ -32,10 +32,11 @@ into a column in place gets an error instead of corrupting the other calculators
 
 from __future__ import annotations
 
+import copy
 import math
 import threading
 from collections.abc import Mapping
-from dataclasses import dataclass, field, replace
+from dataclasses import dataclass, field
 from typing import Any
 
 import numpy as np
@@ -178,14 +179,38 @@ def _call_with_budget(
 
 
 def _read_only(batch: RigBatch) -> RigBatch:
-    """The same batch over read-only views of its columns (the caller's arrays stay writable)."""
-    columns = {}
-    for name, column in batch.columns.items():
-        if isinstance(column, np.ndarray):
-            column = column.view()
-            column.flags.writeable = False
-        columns[name] = column
-    return replace(batch, columns=columns)
+    """The same batch, whose columns are read-only views (the caller's arrays stay writable).
+
+    Views are made when a column is first read: a plugin reads a few of the batch's ~40 columns, and
+    rebuilding the whole batch would cost more than the plugin's compute on a small comparison.
+    """
+    guarded = copy.copy(batch)  # a shallow copy skips the shape checks of __post_init__
+    object.__setattr__(guarded, "columns", _ReadOnlyColumns(batch.columns))
+    return guarded
+
+
+class _ReadOnlyColumns(Mapping[str, Any]):
+    __slots__ = ("_columns", "_views")
+
+    def __init__(self, columns: Mapping[str, Any]):
+        self._columns = columns
+        self._views: dict[str, Any] = {}
+
+    def __getitem__(self, name: str) -> Any:
+        view = self._views.get(name)
+        if view is None:
+            view = self._columns[name]
+            if isinstance(view, np.ndarray):
+                view = view.view()
+                view.flags.writeable = False
+            self._views[name] = view
+        return view
+
+    def __iter__(self):
+        return iter(self._columns)
+
+    def __len__(self) -> int:
+        return len(self._columns)
 
 
 def _checked(
