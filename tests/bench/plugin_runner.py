@@ -49,15 +49,20 @@ def main() -> None:
     bare = best_us(lambda: inline.compute(batch, params), 20_000)
     through_run = best_us(lambda: run(inline, batch, params), 20_000)
     threaded = best_us(lambda: run(guarded, batch, params), 2_000)
-    print(f"light_grasp compute alone (4 rigs)         {bare:8.1f} us")
-    print(f"  through run(), inline (built-in)         {through_run:8.1f} us  (runner overhead {through_run - bare:.1f} us)")
-    print(f"  through run(), worker thread (plugin)    {threaded:8.1f} us  (isolation cost {threaded - through_run:.1f} us)")
-    print(f"parse_params with no params                {best_us(lambda: parse_params(inline, None), 20_000):8.1f} us")
-    print(f"to_json_values, 4 values                   {best_us(lambda: to_json_values(values), 50_000):8.1f} us")
-    print(f"compare(), 4 rigs, light_grasp             {best_us(lambda: compare(RIGS, ['light_grasp'], registry=registry), 5_000):8.1f} us")
+    no_params = best_us(lambda: parse_params(inline, None), 20_000)
+    json_values = best_us(lambda: to_json_values(values), 50_000)
+    one = best_us(lambda: compare(RIGS, ["light_grasp"], registry=registry), 5_000)
+    print(f"light_grasp compute alone (4 rigs)          {bare:8.1f} us")
+    print(f"  through run(), inline (built-in)          {through_run:8.1f} us"
+          f"  (runner overhead {through_run - bare:.1f} us)")
+    print(f"  through run(), worker thread (plugin)     {threaded:8.1f} us"
+          f"  (isolation cost {threaded - through_run:.1f} us)")
+    print(f"parse_params with no params                 {no_params:8.1f} us")
+    print(f"to_json_values, 4 values                    {json_values:8.1f} us")
+    print(f"compare(), 4 rigs, light_grasp              {one:8.1f} us")
     if "dew" in registry.calculators:
         both = best_us(lambda: compare(RIGS, ["light_grasp", "dew"], registry=registry), 2_000)
-        print(f"compare(), 4 rigs, light_grasp + dew plugin {both:7.1f} us")
+        print(f"compare(), 4 rigs, light_grasp + dew plugin {both:8.1f} us")
 
 
 if __name__ == "__main__":

@@ -133,6 +133,7 @@ def test_validate_errors_are_value_errors():
         ("plugin_broken_import:NeverSeen",
          "ModuleNotFoundError: No module named 'rigbench_fake_dependency_that_is_not_installed'"),
         ("plugin_crashes_at_import:Anything", "RuntimeError: configuration file missing"),
+        ("plugin_exits_at_import:Anything", "SystemExit: plugin gave up"),
         ("plugin_fakes:DoesNotExist", "AttributeError"),
         ("rigbench_no_such_module:Calculator", "ModuleNotFoundError"),
         ("plugin_fakes:NeedsArguments", "TypeError"),

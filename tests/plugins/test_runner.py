@@ -12,7 +12,6 @@ import threading
 import numpy as np
 import pytest
 from hypothesis import given
-from hypothesis import strategies as st
 from hypothesis.extra import numpy as hnp
 
 import plugin_fakes
