@@ -269,7 +269,8 @@ def load_registry(
     """Load every calculator entry point; refuse (but list) the ones that break the contract.
 
     ``eps`` defaults to the installed entry points of the ``rigbench.calculators`` group; tests pass
-    their own. ``disabled`` holds calculator names and distribution names not to load.
+    their own. ``disabled`` holds calculator names and distribution names not to load (a list, or
+one comma-separated string); they are not even imported.
     ``time_budget_s`` bounds each third-party ``compute`` call (see :func:`plugins.runner.run`);
     built-ins always run inline, without a budget.
     """
@@ -277,6 +278,8 @@ def load_registry(
         raise ValueError(f"a time budget must be a positive number of seconds, got {time_budget_s!r}")
     if eps is None:
         eps = entry_points(group=GROUP)
+    if isinstance(disabled, str):  # "a,b" straight from an environment variable
+        disabled = disabled.split(",")
     disabled_names = {d.strip() for d in disabled if d.strip()}
     disabled_dists = {normalize_distribution(d) for d in disabled_names}
     ordered = _order(eps)

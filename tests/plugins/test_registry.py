@@ -223,6 +223,14 @@ def test_a_plugin_disabled_by_calculator_or_distribution_name_is_not_imported(se
     assert list(registry.calculators) == ["light_grasp"]
 
 
+def test_disabled_may_be_one_comma_separated_string():
+    registry = load_registry(
+        [builtin(*LIGHT_GRASP), entry_point("good", "plugin_fakes:Good"), entry_point("raises", "plugin_fakes:Raises")],
+        disabled="good, raises",
+    )
+    assert list(registry.calculators) == ["light_grasp"]
+
+
 def test_built_ins_can_be_disabled_by_name():
     registry = load_registry([builtin(*LIGHT_GRASP), entry_point("good", "plugin_fakes:Good")],
                              disabled=["light_grasp"])
