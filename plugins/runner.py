@@ -216,7 +216,7 @@ class _ReadOnlyColumns(Mapping[str, Any]):
 def _checked(
     outputs: tuple[Output, ...], raw: Any, shape: tuple[int, ...]
 ) -> dict[str, np.ndarray]:
-    if not isinstance(raw, Mapping):
+    if type(raw) is not dict and not isinstance(raw, Mapping):  # dict first: the ABC check is slower
         raise OutputContractError(
             f"compute returned a {type(raw).__name__}, not a mapping of output name to array"
         )
