@@ -33,7 +33,7 @@ CSV_RESPONSE = {
 
 @router.post(
     "", response_model=Comparison, operation_id="compare_rigs", summary="Compare rigs",
-    responses={**CSV_RESPONSE, **problems.responses(400, 401, 413, 422)},
+    responses={**CSV_RESPONSE, **problems.responses(400, 401, 413, 415, 422)},
 )
 async def create_comparison(
     body: ComparisonRequest, request: Request, caller: Caller, registry: RegistryDep,

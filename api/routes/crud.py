@@ -44,11 +44,11 @@ def crud_router(resource: Resource) -> APIRouter:
                 require_match(if_match, row.version + 1, f"{label} {item_id}")
         raise ApiProblem(409, f"{label} {item_id} is being changed by others too often; try again")
 
-    write_errors = problems.responses(400, 401, 403, 404, 409, 412, 413, 422)
+    write_errors = problems.responses(400, 401, 403, 404, 409, 412, 413, 415, 422)
 
     @router.post(
         "", status_code=201, response_model=Public, operation_id=f"create_{label}",
-        summary=f"Store a new {label}", responses=problems.responses(400, 401, 403, 413, 422),
+        summary=f"Store a new {label}", responses=problems.responses(400, 401, 403, 413, 415, 422),
     )
     def create(body: Create, principal: Writer, session: SessionDep, request: Request, response: Response):
         values = resource.prepare(session, principal, body)
