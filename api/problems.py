@@ -16,6 +16,7 @@ from fastapi import FastAPI, Request
 from fastapi.encoders import jsonable_encoder
 from fastapi.exceptions import RequestValidationError
 from pydantic import BaseModel, ConfigDict, Field, ValidationError
+from sqlalchemy.exc import OperationalError
 from starlette.exceptions import HTTPException as StarletteHTTPException
 from starlette.responses import JSONResponse
 
@@ -179,6 +180,15 @@ async def _on_rigbench_error(request: Request, exc: RigbenchError) -> JSONRespon
     )
 
 
+async def _on_database_unavailable(request: Request, exc: Exception) -> JSONResponse:
+    # The database is down, unreachable or locked past the busy timeout: worth retrying later.
+    log.error("database unavailable on %s %s: %s", request.method, request.url.path, type(exc).__name__)
+    return render(
+        request,
+        ApiProblem(503, "the database is unavailable; try again shortly", headers={"Retry-After": "5"}),
+    )
+
+
 async def _on_unexpected(request: Request, exc: Exception) -> JSONResponse:
     # Logged with its traceback for the operator; the client gets no internals.
     log.exception("unhandled error on %s %s", request.method, request.url.path)
@@ -190,6 +200,7 @@ def install(app: FastAPI) -> None:
     app.add_exception_handler(RequestValidationError, _on_request_validation)
     app.add_exception_handler(StarletteHTTPException, _on_http_exception)
     app.add_exception_handler(RigbenchError, _on_rigbench_error)
+    app.add_exception_handler(OperationalError, _on_database_unavailable)
     app.add_exception_handler(Exception, _on_unexpected)
 
 
