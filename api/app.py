@@ -33,7 +33,8 @@ follow the manufacturers' ratings, local codes and qualified professionals. Neve
 near the Sun without a proper full-aperture solar filter.
 """
 
-ROUTERS = (health, accounts, telescopes, cameras, modifiers, mounts, rigs, calculators, comparisons)
+# Hot routes first: the router tries routes in this order.
+ROUTERS = (health, comparisons, calculators, accounts, telescopes, cameras, modifiers, mounts, rigs)
 
 
 def create_app(settings: Settings | None = None) -> FastAPI:

@@ -1,5 +1,6 @@
 """`/healthz`: liveness only; it touches no database so it stays cheap under load."""
 
+from functools import cache
 from importlib.metadata import PackageNotFoundError, version
 
 from fastapi import APIRouter
@@ -9,6 +10,7 @@ from api.schemas import Health
 router = APIRouter(tags=["service"])
 
 
+@cache  # reading distribution metadata scans sys.path: far too slow for every health check
 def _version() -> str:
     try:
         return version("rigbench")
