@@ -16,7 +16,7 @@ from fastapi import FastAPI, Request
 from fastapi.encoders import jsonable_encoder
 from fastapi.exceptions import RequestValidationError
 from pydantic import BaseModel, ConfigDict, Field, ValidationError
-from sqlalchemy.exc import OperationalError
+from sqlalchemy.exc import IntegrityError, OperationalError
 from starlette.exceptions import HTTPException as StarletteHTTPException
 from starlette.responses import JSONResponse
 
@@ -189,6 +189,14 @@ async def _on_database_unavailable(request: Request, exc: Exception) -> JSONResp
     )
 
 
+async def _on_integrity_error(request: Request, exc: Exception) -> JSONResponse:
+    # A constraint refused a write that raced another one (e.g. a rig created against equipment
+    # that was being deleted). Nothing was written; the client can read again and retry.
+    log.warning("integrity error on %s %s: %s", request.method, request.url.path, type(exc).__name__)
+    return render(request, ApiProblem(409, "the change conflicts with another change made at the same time; "
+                                           "read the items again and retry"))
+
+
 async def _on_unexpected(request: Request, exc: Exception) -> JSONResponse:
     # Logged with its traceback for the operator; the client gets no internals.
     log.exception("unhandled error on %s %s", request.method, request.url.path)
@@ -201,6 +209,7 @@ def install(app: FastAPI) -> None:
     app.add_exception_handler(StarletteHTTPException, _on_http_exception)
     app.add_exception_handler(RigbenchError, _on_rigbench_error)
     app.add_exception_handler(OperationalError, _on_database_unavailable)
+    app.add_exception_handler(IntegrityError, _on_integrity_error)
     app.add_exception_handler(Exception, _on_unexpected)
 
 

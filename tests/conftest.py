@@ -14,8 +14,15 @@ from collections.abc import Iterator
 from dataclasses import dataclass
 from pathlib import Path
 
+import warnings
+
 import pytest
-from fastapi.testclient import TestClient
+from starlette.exceptions import StarletteDeprecationWarning
+
+with warnings.catch_warnings():
+    # Starlette now prefers the httpx2 package for its TestClient; httpx is what we ship and use.
+    warnings.simplefilter("ignore", StarletteDeprecationWarning)
+    from fastapi.testclient import TestClient
 from sqlalchemy import create_engine, text
 from sqlalchemy.engine import make_url
 from sqlmodel import Session
