@@ -6,6 +6,7 @@ Nothing is built at import time: the engine, the calculator registry and the set
 
 from __future__ import annotations
 
+import logging
 from collections.abc import AsyncIterator
 from contextlib import asynccontextmanager
 from typing import Any
@@ -13,6 +14,7 @@ from typing import Any
 from fastapi import FastAPI
 from fastapi.middleware.cors import CORSMiddleware
 from fastapi.openapi.utils import get_openapi
+from starlette.concurrency import run_in_threadpool
 
 from api import db, problems
 from api.limits import BodySizeLimit
@@ -20,6 +22,8 @@ from api.routes import accounts, calculators, cameras, comparisons, health, modi
 from api.routes.health import _version
 from api.settings import Settings
 from plugins.registry import load_registry
+
+log = logging.getLogger("rigbench.api")
 
 DESCRIPTION = """\
 Store telescopes, cameras, focal reducers and correctors, mounts and rigs, and compare rigs with
@@ -46,6 +50,8 @@ def create_app(settings: Settings | None = None) -> FastAPI:
             # One file, one process tree: bring the schema up to date on start. On PostgreSQL the
             # operator runs `rigbench db upgrade` once, so several servers never race to migrate.
             db.upgrade(app.state.engine)
+        elif warning := await run_in_threadpool(db.schema_warning, app.state.engine):
+            log.warning(warning)
         yield
         app.state.engine.dispose()
 

@@ -61,3 +61,23 @@ def current_revision(engine: Engine) -> str | None:
 
     with engine.connect() as connection:
         return MigrationContext.configure(connection).get_current_revision()
+
+
+def head_revision() -> str | None:
+    from alembic.script import ScriptDirectory
+
+    return ScriptDirectory.from_config(alembic_config()).get_current_head()
+
+
+def schema_warning(engine: Engine) -> str | None:
+    """A sentence for the operator when the database is not at the code's schema revision."""
+    from sqlalchemy.exc import SQLAlchemyError
+
+    try:
+        current = current_revision(engine)
+    except SQLAlchemyError as exc:
+        return f"cannot reach the database at start-up ({type(exc).__name__}); requests will fail until it answers"
+    head = head_revision()
+    if current != head:
+        return f"the database schema is at revision {current}, this code needs {head}: run `rigbench db upgrade`"
+    return None

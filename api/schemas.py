@@ -98,10 +98,12 @@ class EquipmentSchemas:
             f"{title}Update", __base__=Strict, **_optional_fields(self.create),
             __doc__=f"Changes to a {label} (JSON merge patch: null resets a field to its default).",
         )
-        self.public = create_model(
-            f"{title}Public", __base__=(ItemMeta, spec), __doc__=f"A stored {label}.",
-        )
-        self.public.model_config = {**self.public.model_config, "extra": "ignore"}
+        # A class statement's worth of namespace, so model_config applies (extra keys in a stored
+        # spec, say from an older schema, are dropped rather than failing the read).
+        self.public = type(f"{title}Public", (ItemMeta, spec), {
+            "__module__": __name__, "__doc__": f"A stored {label}.",
+            "model_config": ConfigDict(extra="ignore"),
+        })
         self.list = create_model(
             f"{title}List", __base__=ListMeta, items=(list[self.public], ...),
             __doc__=f"One page of {label}s.",

@@ -8,6 +8,7 @@ from typing import Annotated, Any
 
 from fastapi import APIRouter, Query, Request, Response
 from pydantic import ValidationError
+from sqlalchemy.exc import IntegrityError
 
 from api import problems
 from api.deps import ItemId, SessionDep, SettingsDep, Writer, Caller
@@ -45,10 +46,20 @@ def crud_router(resource: Resource) -> APIRouter:
         raise ApiProblem(409, f"{label} {item_id} is being changed by others too often; try again")
 
     write_errors = problems.responses(400, 401, 403, 404, 409, 412, 413, 415, 422)
+    etag_header = {"ETag": {"description": 'The item\'s version as a strong entity tag, e.g. "3".',
+                            "schema": {"type": "string"}}}
+    with_etag = {200: {"description": f"The {label}.", "headers": etag_header}}
 
     @router.post(
         "", status_code=201, response_model=Public, operation_id=f"create_{label}",
-        summary=f"Store a new {label}", responses=problems.responses(400, 401, 403, 413, 415, 422),
+        summary=f"Store a new {label}",
+        responses={
+            201: {"description": f"The stored {label}.", "headers": {
+                **etag_header,
+                "Location": {"description": f"URL of the new {label}.", "schema": {"type": "string"}},
+            }},
+            **problems.responses(400, 401, 403, 413, 415, 422),
+        },
     )
     def create(body: Create, principal: Writer, session: SessionDep, request: Request, response: Response):
         values = resource.prepare(session, principal, body)
@@ -83,7 +94,7 @@ def crud_router(resource: Resource) -> APIRouter:
 
     @router.get(
         "/{item_id}", response_model=Public, name=f"get_{label}", operation_id=f"get_{label}",
-        summary=f"Read one {label}", responses=problems.responses(401, 404, 422),
+        summary=f"Read one {label}", responses={**with_etag, **problems.responses(401, 404, 422)},
     )
     def get(item_id: ItemId, session: SessionDep, caller: Caller, response: Response):
         row, owner = fetch_readable(session, table, item_id, caller, label)
@@ -92,7 +103,7 @@ def crud_router(resource: Resource) -> APIRouter:
 
     @router.put(
         "/{item_id}", response_model=Public, operation_id=f"replace_{label}",
-        summary=f"Replace a {label} you own", responses=write_errors,
+        summary=f"Replace a {label} you own", responses={**with_etag, **write_errors},
     )
     def replace(
         item_id: ItemId, body: Create, principal: Writer, session: SessionDep, response: Response,
@@ -104,7 +115,7 @@ def crud_router(resource: Resource) -> APIRouter:
 
     @router.patch(
         "/{item_id}", response_model=Public, operation_id=f"patch_{label}",
-        summary=f"Change some fields of a {label} you own", responses=write_errors,
+        summary=f"Change some fields of a {label} you own", responses={**with_etag, **write_errors},
         description="Fields you send replace the stored ones; null resets a field to its default. "
         "Send If-Match with the ETag you read to be sure nobody changed the item in between.",
     )
@@ -135,20 +146,21 @@ def crud_router(resource: Resource) -> APIRouter:
         responses=problems.responses(401, 403, 404, 409, 412, 422),
     )
     def delete(item_id: ItemId, principal: Writer, session: SessionDep, if_match: IfMatch = None) -> Response:
-        from sqlalchemy.exc import IntegrityError
-
         row, _owner = fetch_owned(session, table, item_id, principal, label)
         require_match(if_match, row.version, f"{label} {item_id}")
         resource.before_delete(session, principal, row)
+        # With a version to hold on to, delete only that version; `*` or no If-Match: any version.
+        expected = row.version if if_match is not None and if_match.strip() != "*" else None
         try:
-            deleted = delete_if_version(session, table, item_id, row.version if if_match else None)
+            deleted = delete_if_version(session, table, item_id, expected)
         except IntegrityError:
             # A rig started using it between our check and the delete: the foreign key said no.
             session.rollback()
             resource.before_delete(session, principal, row)
             raise ApiProblem(409, f"{label} {item_id} is still referenced; try again") from None
-        if not deleted and if_match is not None:
-            require_match(if_match, row.version + 1, f"{label} {item_id}")
+        if not deleted and expected is not None:
+            raise ApiProblem(412, f"{label} {item_id} changed after version {expected}; fetch it again",
+                             title="Precondition Failed")
         return Response(status_code=204)
 
     return router

@@ -50,3 +50,12 @@ def test_a_missing_data_folder_is_created(tmp_path):
     db.upgrade(engine)
     assert (tmp_path / "deep" / "er" / "rigbench.db").exists()
     engine.dispose()
+
+
+def test_schema_warning_names_the_fix(app, tmp_path):
+    assert db.schema_warning(app.state.engine) is None
+    fresh = db.make_engine(f"sqlite:///{tmp_path / 'empty.db'}")
+    assert "rigbench db upgrade" in db.schema_warning(fresh)
+    fresh.dispose()
+    unreachable = db.make_engine("postgresql+psycopg://nobody:x@127.0.0.1:9/none")
+    assert "cannot reach the database" in db.schema_warning(unreachable)

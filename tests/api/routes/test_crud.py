@@ -124,3 +124,30 @@ def test_ids_outside_one_to_two_to_the_63_are_refused(client, bad_id):
 
 def test_largest_id_is_just_not_found(client):
     assert_problem(client.get("/v1/telescopes/9223372036854775807"), 404)
+
+
+def test_delete_honours_if_match(client, alice):
+    item = client.post("/v1/mounts", json=BODIES["mounts"], headers=alice.headers).json()
+    url = f"/v1/mounts/{item['id']}"
+    client.patch(url, json={"name": "v2"}, headers=alice.headers)
+    assert_problem(client.delete(url, headers={**alice.headers, "If-Match": '"1"'}), 412)
+    assert client.delete(url, headers={**alice.headers, "If-Match": '"2"'}).status_code == 204
+    other = client.post("/v1/mounts", json=BODIES["mounts"], headers=alice.headers).json()
+    assert client.delete(f"/v1/mounts/{other['id']}", headers={**alice.headers, "If-Match": "*"}).status_code == 204
+    assert_problem(client.get(f"/v1/mounts/{other['id']}", headers=alice.headers), 404)
+
+
+def test_a_stored_spec_with_a_retired_field_still_reads(app, client, alice):
+    # Stored JSON may hold a field a later schema dropped; reads must not fail on it.
+    from sqlalchemy import update
+    from sqlmodel import Session
+
+    from api.models import TelescopeRow
+
+    item = client.post("/v1/telescopes", json=TELESCOPE, headers=alice.headers).json()
+    with Session(app.state.engine) as session:
+        session.execute(update(TelescopeRow).where(TelescopeRow.id == item["id"])
+                        .values(spec={**TELESCOPE, "retired_field": 1}))
+        session.commit()
+    read = client.get(f"/v1/telescopes/{item['id']}", headers=alice.headers)
+    assert read.status_code == 200 and "retired_field" not in read.json()
