@@ -84,3 +84,32 @@ def test_field_paths_drop_body_prefix_and_union_tags():
     assert field_path(("body", "rigs", 0, "inline", "telescope", "inline", "aperture_mm")) == "rigs.0.telescope.aperture_mm"
     assert field_path(("query", "limit")) == "limit"
     assert field_path(("body",)) == "(body)"
+
+
+@pytest.mark.parametrize(("params", "field"), [
+    ({"limit": "ten"}, "limit"),
+    ({"limit": 0}, "limit"),
+    ({"offset": "-"}, "offset"),
+    ({"visibility": "secret"}, "visibility"),
+    ({"owner": "Not A Handle"}, "owner"),
+])
+def test_bad_list_parameters_are_named(client, params, field):
+    assert_problem(client.get("/v1/rigs", params=params), 422, field)
+
+
+def test_over_long_names_are_refused(client, alice):
+    assert_problem(client.post("/v1/telescopes", json={**TELESCOPE, "name": "x" * 121}, headers=alice.headers),
+                   422, "name")
+
+
+@pytest.mark.parametrize("name", ["Teleskop für den Verein ☄", "'; DROP TABLE telescopes; --", "<script>x</script>"])
+def test_odd_names_are_stored_and_returned_as_given(client, alice, name):
+    created = client.post("/v1/telescopes", json={**TELESCOPE, "name": name}, headers=alice.headers)
+    assert created.status_code == 201
+    assert client.get(created.headers["location"], headers=alice.headers).json()["name"] == name
+    assert client.get("/v1/telescopes", headers=alice.headers).json()["total"] == 1
+
+
+def test_a_json_body_that_is_not_an_object_is_named(client, alice):
+    assert_problem(client.post("/v1/telescopes", json=[1, 2], headers=alice.headers), 422, "(body)")
+    assert_problem(client.post("/v1/comparisons", json={"rigs": "all"}), 422, "rigs")
