@@ -1,0 +1,99 @@
+"""Accounts and API keys: creation, hashing and lookup.
+
+A key is ``rb_`` plus 43 URL-safe characters from :func:`secrets.token_urlsafe` (256 random bits). Only
+its SHA-256 is stored: with that much entropy a fast hash is enough (no dictionary to attack), and
+lookup stays a single indexed query. The key is shown once, when it is made.
+"""
+
+from __future__ import annotations
+
+import hashlib
+import hmac
+import re
+import secrets
+from dataclasses import dataclass
+
+from sqlmodel import Session, select
+
+from api.models import Account, AccountKind, ApiKey, KeyScope
+from api.schemas import HANDLE_PATTERN
+
+KEY_PREFIX = "rb_"
+
+
+class AccountError(ValueError):
+    """An account cannot be created as asked (bad handle, handle taken)."""
+
+
+@dataclass(frozen=True)
+class Principal:
+    """Who is calling, and with which kind of key."""
+
+    account: Account
+    scope: KeyScope
+
+    @property
+    def can_write(self) -> bool:
+        return self.scope == KeyScope.write
+
+
+def hash_key(key: str) -> str:
+    return hashlib.sha256(key.encode("utf-8")).hexdigest()
+
+
+def new_key() -> str:
+    return KEY_PREFIX + secrets.token_urlsafe(32)
+
+
+def check_handle(name: str) -> str:
+    if not re.fullmatch(HANDLE_PATTERN, name):
+        raise AccountError(
+            f"name {name!r}: use 1-40 lower-case letters, digits and inner hyphens, e.g. 'lakeside-astro'"
+        )
+    return name
+
+
+def create_account(
+    session: Session,
+    name: str,
+    kind: AccountKind = AccountKind.person,
+    *,
+    display_name: str = "",
+    location: str = "",
+    contact_url: str = "",
+) -> tuple[Account, str]:
+    """Create an account and its first read-write key; returns the account and the key (shown once)."""
+    check_handle(name)
+    if session.exec(select(Account).where(Account.name == name)).first() is not None:
+        raise AccountError(f"name {name!r} is already taken")
+    account = Account(
+        name=name, kind=AccountKind(kind).value, display_name=display_name or name,
+        location=location, contact_url=contact_url,
+    )
+    session.add(account)
+    session.flush()
+    key = add_key(session, account)
+    session.commit()
+    session.refresh(account)
+    return account, key
+
+
+def add_key(session: Session, account: Account, scope: KeyScope = KeyScope.write) -> str:
+    """Store a new key's hash for ``account`` and return the key itself (not committed)."""
+    key = new_key()
+    session.add(ApiKey(account_id=account.id, key_hash=hash_key(key), prefix=key[:10], scope=scope.value))
+    return key
+
+
+def authenticate(session: Session, key: str) -> Principal | None:
+    """The account a key belongs to, or None for an unknown or revoked key."""
+    digest = hash_key(key)
+    row = session.exec(select(ApiKey).where(ApiKey.key_hash == digest)).first()
+    # The lookup matched on the hash already; the constant-time comparison keeps the final check free
+    # of timing differences should the lookup ever become a prefix search.
+    if row is None or row.revoked_at is not None or not hmac.compare_digest(row.key_hash, digest):
+        return None
+    account = session.get(Account, row.account_id)
+    if account is None:
+        return None
+    return Principal(account=account, scope=KeyScope(row.scope))

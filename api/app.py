@@ -1,0 +1,108 @@
+"""The application factory: ``create_app(settings)`` builds everything a running service needs.
+
+Nothing is built at import time: the engine, the calculator registry and the settings live on
+``app.state`` of the app the factory returns, so every test gets its own app and database.
+"""
+
+from __future__ import annotations
+
+import logging
+from collections.abc import AsyncIterator
+from contextlib import asynccontextmanager
+from typing import Any
+
+from fastapi import FastAPI
+from fastapi.middleware.cors import CORSMiddleware
+from fastapi.openapi.utils import get_openapi
+from starlette.concurrency import run_in_threadpool
+
+from api import db, problems
+from api.limits import BodySizeLimit
+from api.routes import accounts, calculators, cameras, comparisons, health, modifiers, mounts, rigs, telescopes
+from api.routes.health import _version
+from api.settings import Settings
+from plugins.registry import load_registry
+
+log = logging.getLogger("rigbench.api")
+
+DESCRIPTION = """\
+Store telescopes, cameras, focal reducers and correctors, mounts and rigs, and compare rigs with
+pluggable calculators (light grasp, imaging speed, sampling, field of view, payload, cost).
+
+Reading public items needs no key; writing needs `Authorization: Bearer <key>`. Every error is an
+RFC 9457 `application/problem+json` document whose `errors` name the offending fields.
+
+Heavy payloads, counterweights, piers and domes can hurt people: the figures here are estimates, so
+follow the manufacturers' ratings, local codes and qualified professionals. Never point a telescope
+near the Sun without a proper full-aperture solar filter.
+"""
+
+# Hot routes first: the router tries routes in this order.
+ROUTERS = (health, comparisons, calculators, accounts, telescopes, cameras, modifiers, mounts, rigs)
+
+
+def create_app(settings: Settings | None = None) -> FastAPI:
+    settings = settings or Settings()
+
+    @asynccontextmanager
+    async def lifespan(app: FastAPI) -> AsyncIterator[None]:
+        if settings.is_sqlite:
+            # One file, one process tree: bring the schema up to date on start. On PostgreSQL the
+            # operator runs `rigbench db upgrade` once, so several servers never race to migrate.
+            db.upgrade(app.state.engine)
+        elif warning := await run_in_threadpool(db.schema_warning, app.state.engine):
+            log.warning(warning)
+        yield
+        app.state.engine.dispose()
+
+    app = FastAPI(
+        title="rigbench",
+        version=_version(),
+        description=DESCRIPTION,
+        lifespan=lifespan,
+        license_info={"name": "MIT", "identifier": "MIT"},
+    )
+    app.state.settings = settings
+    app.state.engine = db.make_engine(settings.database_url)
+    app.state.registry = load_registry(disabled=settings.disabled_plugins)
+
+    problems.install(app)
+    for module in ROUTERS:
+        app.include_router(module.router)
+    app.add_middleware(BodySizeLimit, max_bytes=settings.max_body_bytes)
+    if settings.cors_origins:
+        app.add_middleware(
+            CORSMiddleware,
+            allow_origins=settings.cors_origins,
+            allow_methods=["GET", "POST", "PUT", "PATCH", "DELETE"],
+            allow_headers=["Authorization", "Content-Type", "If-Match", "Accept"],
+            expose_headers=["ETag", "Location"],
+        )
+    app.openapi = lambda: openapi_document(app)  # type: ignore[method-assign]
+    return app
+
+
+def openapi_document(app: FastAPI) -> dict[str, Any]:
+    """FastAPI's document, with every error response declared as a Problem document."""
+    if app.openapi_schema:
+        return app.openapi_schema
+    document = get_openapi(
+        title=app.title, version=app.version, description=app.description, routes=app.routes,
+        license_info=app.license_info,
+    )
+    schemas = document.setdefault("components", {}).setdefault("schemas", {})
+    problem = problems.Problem.model_json_schema(ref_template="#/components/schemas/{model}")
+    schemas.update(problem.pop("$defs", {}))
+    schemas["Problem"] = problem
+    for path in document.get("paths", {}).values():
+        for operation in path.values():
+            for status, response in operation.get("responses", {}).items():
+                if status.isdigit() and int(status) >= 400:
+                    response["content"] = {
+                        problems.MEDIA_TYPE: {"schema": {"$ref": "#/components/schemas/Problem"}}
+                    }
+    # FastAPI's default validation-error shapes are replaced by Problem everywhere.
+    for unused in ("HTTPValidationError", "ValidationError"):
+        schemas.pop(unused, None)
+    app.openapi_schema = document
+    return document

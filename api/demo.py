@@ -1,0 +1,153 @@
+"""Demo data: an invented astronomy club with public rigs of generic equipment, and a member with
+private items. Every name and number here is made up; no real product is described."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from typing import Any
+
+from sqlalchemy import Engine
+from sqlmodel import Session, select
+
+from api import resources, schemas
+from api.accounts import Principal, add_key, create_account
+from api.models import Account, AccountKind, KeyScope, StoredItem
+from api.resources import Resource
+from api.store import insert
+
+CLUB = "kestrel-ridge-astro"
+MEMBER = "orla-demo"
+
+EUR = {"currency": "EUR"}
+
+
+def _price(amount: float) -> dict[str, Any]:
+    return {"amount": amount, **EUR}
+
+
+# Club equipment, by a short key used to wire the rigs below.
+CLUB_EQUIPMENT: dict[str, tuple[Resource, dict[str, Any]]] = {
+    "newtonian": (resources.TELESCOPES, {
+        "name": "300 mm f/4 newtonian", "design": "newtonian", "aperture_mm": 300, "focal_length_mm": 1200,
+        "obstruction_mm": 100, "mass_kg": 16, "length_mm": 1150, "tube_diameter_mm": 350,
+        "spider_vanes": 4, "price": _price(1600),
+    }),
+    "refractor": (resources.TELESCOPES, {
+        "name": "80 mm f/6 refractor", "design": "refractor", "aperture_mm": 80, "focal_length_mm": 480,
+        "mass_kg": 3.2, "length_mm": 520, "price": _price(900),
+    }),
+    "sct": (resources.TELESCOPES, {
+        "name": "200 mm f/10 schmidt-cassegrain", "design": "schmidt-cassegrain", "aperture_mm": 200,
+        "focal_length_mm": "2000 mm", "obstruction_mm": 70, "mass_kg": 6.4, "price": _price(1500),
+    }),
+    "coma_corrector": (resources.MODIFIERS, {
+        "name": "coma corrector 1.0x", "kind": "corrector", "factor": 1.0, "mass_kg": 0.4,
+        "corrected_field_mm": 44, "price": _price(250),
+    }),
+    "reducer_080": (resources.MODIFIERS, {
+        "name": "reducer-flattener 0.8x", "kind": "reducer-flattener", "factor": 0.8, "mass_kg": 0.35,
+        "price": _price(300),
+    }),
+    "reducer_063": (resources.MODIFIERS, {
+        "name": "focal reducer 0.63x", "kind": "reducer", "factor": 0.63, "mass_kg": 0.3, "price": _price(180),
+    }),
+    "mono_camera": (resources.CAMERAS, {
+        "name": "cooled mono camera, 3.8 um pixels", "pixel_size_um": 3.8, "width_px": 6000, "height_px": 4000,
+        "quantum_efficiency": 0.8, "read_noise_e": 1.5, "dark_current_e_per_s": 0.003, "mass_kg": 0.9,
+        "price": _price(3500),
+    }),
+    "colour_camera": (resources.CAMERAS, {
+        "name": "cooled colour camera, 3.0 um pixels", "pixel_size_um": 3.0, "width_px": 5000,
+        "height_px": 3400, "quantum_efficiency": 0.75, "read_noise_e": 1.8, "mass_kg": 0.7,
+        "price": _price(1900),
+    }),
+    "heavy_mount": (resources.MOUNTS, {
+        "name": "heavy german-equatorial mount, 50 kg", "type": "german-equatorial", "capacity_kg": 50,
+        "mass_kg": 38, "price": _price(5500),
+    }),
+    "light_mount": (resources.MOUNTS, {
+        "name": "light german-equatorial mount, 15 kg", "type": "german-equatorial", "capacity_kg": 15,
+        "mass_kg": 9, "price": _price(1400),
+    }),
+}
+
+CLUB_RIGS: list[dict[str, Any]] = [
+    {
+        "name": "Big newtonian imager", "telescope": "newtonian", "modifier": "coma_corrector",
+        "camera": "mono_camera", "mount": "heavy_mount",
+        "accessories": [{"name": "guide scope and camera", "mass_kg": 1.1, "price": _price(350)},
+                        {"name": "filter wheel", "mass_kg": 0.8, "price": _price(600)}],
+        "geometry": {"payload_arm_mm": 320, "counterweight_kg": 24},
+    },
+    {
+        "name": "Wide-field travel refractor", "telescope": "refractor", "modifier": "reducer_080",
+        "camera": "colour_camera", "mount": "light_mount",
+        "accessories": [{"name": "guide scope and camera", "mass_kg": 0.6, "price": _price(250)}],
+        "geometry": {"payload_arm_mm": 180, "counterweight_kg": 5},
+    },
+    {
+        "name": "Reduced SCT for galaxies", "telescope": "sct", "modifier": "reducer_063",
+        "camera": "mono_camera", "mount": "heavy_mount",
+        "accessories": [{"name": "off-axis guider", "mass_kg": 0.3, "price": _price(200)}],
+        "geometry": {"payload_arm_mm": 250, "counterweight_kg": 12},
+    },
+]
+
+
+@dataclass(frozen=True)
+class DemoInfo:
+    club: str
+    club_key: str
+    member: str
+    member_key: str
+
+
+def _store(session: Session, principal: Principal, resource: Resource, body: dict[str, Any]) -> StoredItem:
+    model = resource.create.model_validate(body)
+    return insert(session, resource.table, principal, resource.prepare(session, principal, model))
+
+
+def seed_demo(engine: Engine) -> DemoInfo:
+    """Create the demo club and member with their equipment, or give them fresh keys if they exist."""
+    with Session(engine) as session:
+        existing = session.exec(select(Account).where(Account.name == CLUB)).first()
+        if existing is not None:
+            member = session.exec(select(Account).where(Account.name == MEMBER)).one()
+            club_key, member_key = add_key(session, existing), add_key(session, member)
+            session.commit()
+            return DemoInfo(CLUB, club_key, MEMBER, member_key)
+
+        club, club_key = create_account(
+            session, CLUB, AccountKind.club, display_name="Kestrel Ridge Astronomy Club (demo)",
+            location="An invented hill town", contact_url="https://example.org/kestrel-ridge-astro",
+        )
+        club_as = Principal(club, KeyScope.write)
+        ids = {
+            key: _store(session, club_as, resource, {**spec, "visibility": "public"}).id
+            for key, (resource, spec) in CLUB_EQUIPMENT.items()
+        }
+        for rig in CLUB_RIGS:
+            body = {**rig, "visibility": "public"}
+            for slot in schemas.RIG_SLOTS:
+                if slot in rig:
+                    body[slot] = {"id": ids[rig[slot]]}
+            _store(session, club_as, resources.RIGS, body)
+
+        member, member_key = create_account(
+            session, MEMBER, AccountKind.person, display_name="Orla (demo member)", location="Kestrel Ridge",
+        )
+        member_as = Principal(member, KeyScope.write)
+        scope = _store(session, member_as, resources.TELESCOPES, {
+            "name": "130 mm f/5 newtonian", "design": "newtonian", "aperture_mm": 130, "focal_length_mm": 650,
+            "obstruction_mm": 40, "mass_kg": 5.5, "price": _price(450),
+        })
+        camera = _store(session, member_as, resources.CAMERAS, {
+            "name": "uncooled colour camera, 2.9 um pixels", "pixel_size_um": 2.9, "width_px": 3800,
+            "height_px": 2500, "mass_kg": 0.4, "price": _price(500),
+        })
+        # A private rig on the club's public mount: members may build on club equipment.
+        _store(session, member_as, resources.RIGS, {
+            "name": "Back-garden newtonian", "telescope": {"id": scope.id}, "camera": {"id": camera.id},
+            "mount": {"id": ids["light_mount"]}, "geometry": {"payload_arm_mm": 200, "counterweight_kg": 5},
+        })
+        return DemoInfo(CLUB, club_key, MEMBER, member_key)

@@ -1,0 +1,119 @@
+"""Database tables (SQLModel). Each change here needs an Alembic migration (see DEVELOPERS.md).
+
+Equipment and rigs keep their validated spec as JSON (the pydantic model's dump, canonical units)
+plus the indexed columns that lists filter on. A rig's component slots are either inline in its spec
+or references to stored equipment; references are mirrored in foreign-key columns so the database
+itself refuses to delete equipment a rig still uses.
+"""
+
+from __future__ import annotations
+
+from datetime import UTC, datetime
+from enum import StrEnum
+from typing import Any
+
+from sqlalchemy import JSON, BigInteger, Column, DateTime, ForeignKey, Integer, String
+from sqlmodel import Field, SQLModel
+
+
+def utcnow() -> datetime:
+    return datetime.now(UTC)
+
+
+class AccountKind(StrEnum):
+    person = "person"
+    club = "club"
+
+
+class Visibility(StrEnum):
+    private = "private"
+    public = "public"
+
+
+class KeyScope(StrEnum):
+    read = "read"
+    write = "write"
+
+
+# 64-bit ids on PostgreSQL (path ids go up to 2**63-1); on SQLite an INTEGER primary key is already
+# 64-bit and must stay INTEGER to remain the rowid alias that autoincrements.
+ID = BigInteger().with_variant(Integer(), "sqlite")
+
+
+def _timestamp() -> Any:
+    # sa_type rather than sa_column: a Column object cannot be shared by the tables of a mixin.
+    return Field(default_factory=utcnow, sa_type=DateTime(timezone=True), nullable=False)
+
+
+class Account(SQLModel, table=True):
+    __tablename__ = "accounts"
+
+    id: int | None = Field(default=None, primary_key=True, sa_type=ID)
+    name: str = Field(sa_column=Column(String(40), unique=True, nullable=False, index=True))
+    kind: str = Field(default=AccountKind.person.value, sa_column=Column(String(10), nullable=False))
+    display_name: str = Field(default="", sa_column=Column(String(120), nullable=False))
+    location: str = Field(default="", sa_column=Column(String(200), nullable=False))
+    contact_url: str = Field(default="", sa_column=Column(String(500), nullable=False))
+    created_at: datetime = _timestamp()
+
+
+class ApiKey(SQLModel, table=True):
+    __tablename__ = "api_keys"
+
+    id: int | None = Field(default=None, primary_key=True, sa_type=ID)
+    account_id: int = Field(
+        sa_column=Column(ID, ForeignKey("accounts.id", ondelete="CASCADE"), nullable=False, index=True)
+    )
+    # sha256 hex of the whole key; the key itself is shown once and never stored.
+    key_hash: str = Field(sa_column=Column(String(64), unique=True, nullable=False))
+    # The first characters of the key, not secret, so a person can tell their keys apart.
+    prefix: str = Field(sa_column=Column(String(16), nullable=False))
+    scope: str = Field(default=KeyScope.write.value, sa_column=Column(String(10), nullable=False))
+    created_at: datetime = _timestamp()
+    revoked_at: datetime | None = Field(default=None, sa_column=Column(DateTime(timezone=True)))
+
+
+class StoredItem(SQLModel):
+    """Columns every stored telescope, camera, modifier, mount and rig has."""
+
+    id: int | None = Field(default=None, primary_key=True, sa_type=ID)
+    owner_id: int = Field(foreign_key="accounts.id", index=True, ondelete="CASCADE", sa_type=ID)
+    visibility: str = Field(default=Visibility.private.value, max_length=10, index=True)
+    name: str | None = Field(default=None, max_length=120, index=True)
+    spec: dict = Field(sa_type=JSON, nullable=False)
+    version: int = Field(default=1, sa_type=BigInteger, nullable=False)
+    created_at: datetime = _timestamp()
+    updated_at: datetime = _timestamp()
+
+
+class TelescopeRow(StoredItem, table=True):
+    __tablename__ = "telescopes"
+
+
+class CameraRow(StoredItem, table=True):
+    __tablename__ = "cameras"
+
+
+class ModifierRow(StoredItem, table=True):
+    __tablename__ = "modifiers"
+
+
+class MountRow(StoredItem, table=True):
+    __tablename__ = "mounts"
+
+
+def _reference(table: str) -> Any:
+    # RESTRICT: deleting equipment a rig uses must fail rather than lose part of the rig.
+    return Field(
+        default=None,
+        sa_column=Column(ID, ForeignKey(f"{table}.id", ondelete="RESTRICT"), index=True),
+    )
+
+
+class RigRow(StoredItem, table=True):
+    __tablename__ = "rigs"
+
+    telescope_id: int | None = _reference("telescopes")
+    camera_id: int | None = _reference("cameras")
+    modifier_id: int | None = _reference("modifiers")
+    mount_id: int | None = _reference("mounts")

@@ -1,0 +1,231 @@
+"""Request and response bodies of the service, named by role (``TelescopeCreate``, ``TelescopePublic``…).
+
+Equipment bodies are the calculator schemas of :mod:`calculators.schemas` plus ``visibility`` on the
+way in, and the stored item's metadata (id, owner, version, timestamps) on the way out. A rig's
+component slots each take an inline object or ``{"id": N}`` naming stored equipment.
+"""
+
+from __future__ import annotations
+
+from datetime import datetime
+from typing import Annotated, Any
+
+from pydantic import BaseModel, ConfigDict, Discriminator, Field, Tag, create_model
+
+from calculators.schemas import (
+    Accessory,
+    Camera,
+    Geometry,
+    Modifier,
+    Mount,
+    Name,
+    Rig,
+    Strict,
+    Telescope,
+)
+from api.models import AccountKind, KeyScope, Visibility
+
+MAX_ID = 2**63 - 1
+Id = Annotated[int, Field(ge=1, le=MAX_ID)]
+HANDLE_PATTERN = r"^[a-z0-9](?:[a-z0-9-]{0,38}[a-z0-9])?$"
+
+
+class Ref(Strict):
+    """A reference to stored equipment the caller may read."""
+
+    id: Id
+
+
+def _slot_tag(value: Any) -> str:
+    if isinstance(value, Ref) or (isinstance(value, dict) and set(value) == {"id"}):
+        return "stored"
+    return "inline"
+
+
+def slot(model: type[BaseModel]) -> Any:
+    """An inline ``model`` or ``{"id": N}``; the tags are dropped from error paths (api.problems)."""
+    return Annotated[
+        Annotated[Ref, Tag("stored")] | Annotated[model, Tag("inline")],
+        Discriminator(_slot_tag),
+    ]
+
+
+Visible = Annotated[
+    Visibility,
+    Field(description="private: only the owner sees it; public: anyone may read it without a key."),
+]
+
+
+class ItemMeta(BaseModel):
+    """What the service adds to every stored item."""
+
+    id: int
+    owner: str = Field(description="Handle of the owning account.")
+    visibility: Visibility
+    version: int = Field(description="Starts at 1, grows by one on each change; the ETag carries it.")
+    created_at: datetime
+    updated_at: datetime
+
+
+class ListMeta(BaseModel):
+    total: int = Field(description="Items matching the filters, over all pages.")
+    limit: int
+    offset: int
+
+
+# --- equipment ------------------------------------------------------------------------------------
+
+def _optional_fields(model: type[BaseModel]) -> dict[str, Any]:
+    """Every field of ``model`` made optional, keeping its validators, bounds and description."""
+    fields = {}
+    for name, info in model.model_fields.items():
+        annotated = Annotated[(info.annotation, *info.metadata)] if info.metadata else info.annotation
+        fields[name] = (annotated | None, Field(default=None, description=info.description))
+    return fields
+
+
+class EquipmentSchemas:
+    """The four role-named bodies of one kind of equipment, built from its calculator schema."""
+
+    def __init__(self, spec: type[BaseModel], label: str):
+        self.spec = spec
+        title = label.capitalize()
+        self.create = create_model(
+            f"{title}Create", __base__=spec, visibility=(Visible, Visibility.private),
+            __doc__=f"A new {label}.",
+        )
+        self.update = create_model(
+            f"{title}Update", __base__=Strict, **_optional_fields(self.create),
+            __doc__=f"Changes to a {label} (JSON merge patch: null resets a field to its default).",
+        )
+        # A class statement's worth of namespace, so model_config applies (extra keys in a stored
+        # spec, say from an older schema, are dropped rather than failing the read).
+        self.public = type(f"{title}Public", (ItemMeta, spec), {
+            "__module__": __name__, "__doc__": f"A stored {label}.",
+            "model_config": ConfigDict(extra="ignore"),
+        })
+        self.list = create_model(
+            f"{title}List", __base__=ListMeta, items=(list[self.public], ...),
+            __doc__=f"One page of {label}s.",
+        )
+
+
+TELESCOPE = EquipmentSchemas(Telescope, "telescope")
+CAMERA = EquipmentSchemas(Camera, "camera")
+MODIFIER = EquipmentSchemas(Modifier, "modifier")
+MOUNT = EquipmentSchemas(Mount, "mount")
+
+
+# --- rigs -----------------------------------------------------------------------------------------
+
+class RigSlots(Strict):
+    """A rig whose component slots are inline or ``{"id": N}``."""
+
+    name: Name
+    telescope: slot(Telescope)
+    modifier: slot(Modifier) | None = None
+    camera: slot(Camera)
+    mount: slot(Mount) | None = None
+    accessories: list[Accessory] = Field(default_factory=list, max_length=50)
+    geometry: Geometry | None = None
+
+
+class RigCreate(RigSlots):
+    visibility: Visible = Visibility.private
+
+
+RigUpdate = create_model(
+    "RigUpdate", __base__=Strict, **_optional_fields(RigCreate),
+    __doc__="Changes to a rig (JSON merge patch: null resets a field to its default).",
+)
+
+
+class RigPublic(ItemMeta, RigSlots):
+    model_config = ConfigDict(extra="ignore")
+
+    resolved: Rig = Field(description="The rig with every stored component filled in.")
+
+
+class RigList(ListMeta):
+    items: list[RigPublic]
+
+
+RIG_SLOTS = ("telescope", "modifier", "camera", "mount")
+
+
+# --- accounts -------------------------------------------------------------------------------------
+
+class AccountPublic(BaseModel):
+    name: str = Field(pattern=HANDLE_PATTERN, description="URL-safe handle, e.g. 'lakeside-astro'.")
+    kind: AccountKind
+    display_name: str
+    location: str
+    contact_url: str
+    created_at: datetime
+
+
+class Me(AccountPublic):
+    key_scope: KeyScope = Field(description="Scope of the key used for this request.")
+
+
+# --- calculators ----------------------------------------------------------------------------------
+
+class OutputPublic(BaseModel):
+    name: str
+    unit: str = Field(description="pint-readable unit; '' when dimensionless.")
+    description: str
+    kind: str
+    nullable: bool
+    relative: bool = Field(description="Depends on the baseline rig.")
+
+
+class Origin(BaseModel):
+    builtin: bool
+    distribution: str = Field(description="Python distribution that provides the calculator.")
+    version: str
+
+
+class CalculatorPublic(BaseModel):
+    name: str
+    version: str
+    summary: str
+    outputs: list[OutputPublic]
+    params_schema: dict[str, Any] = Field(description="JSON Schema of the calculator's params.")
+    sources: list[str]
+    cautions: list[str]
+    origin: Origin
+
+
+class CalculatorList(BaseModel):
+    items: list[CalculatorPublic]
+
+
+# --- comparisons ----------------------------------------------------------------------------------
+
+def _rig_tag(value: Any) -> str:
+    if isinstance(value, Ref) or (isinstance(value, dict) and set(value) == {"id"}):
+        return "stored"
+    return "inline"
+
+
+RigEntry = Annotated[
+    Annotated[Ref, Tag("stored")] | Annotated[RigSlots, Tag("inline")],
+    Discriminator(_rig_tag),
+]
+
+
+class ComparisonRequest(Strict):
+    rigs: list[RigEntry] = Field(min_length=1, description="Inline rigs or {\"id\": N} of stored rigs.")
+    calculators: list[Annotated[str, Field(min_length=1, max_length=63)]] | None = Field(
+        default=None, max_length=200, description="Calculator names; default: all."
+    )
+    baseline: int = Field(default=0, ge=0, description="Index into rigs of the rig others are relative to.")
+    params: dict[str, dict[str, Any]] = Field(
+        default_factory=dict, description="Params per calculator name."
+    )
+
+
+
+class Health(BaseModel):
+    status: str = "ok"
+    version: str

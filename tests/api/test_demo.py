@@ -1,0 +1,37 @@
+"""api/demo.py: the invented club, its public rigs and a member's private items."""
+
+from __future__ import annotations
+
+from api.demo import CLUB, MEMBER, seed_demo
+
+
+def test_demo_club_has_at_least_three_public_rigs_that_compare(app, client):
+    demo = seed_demo(app.state.engine)
+    rigs = client.get("/v1/rigs", params={"owner": CLUB}).json()
+    assert rigs["total"] >= 3
+    assert {r["visibility"] for r in rigs["items"]} == {"public"}
+    comparison = client.post("/v1/comparisons", json={"rigs": [{"id": r["id"]} for r in rigs["items"]]})
+    assert comparison.status_code == 200, comparison.text
+    assert all(result["error"] is None for result in comparison.json()["results"].values()), comparison.json()
+    me = client.get("/v1/accounts/me", headers={"Authorization": f"Bearer {demo.club_key}"}).json()
+    assert me["name"] == CLUB and me["kind"] == "club" and me["display_name"]
+
+
+def test_demo_member_has_private_items_nobody_else_sees(app, client):
+    demo = seed_demo(app.state.engine)
+    member = {"Authorization": f"Bearer {demo.member_key}"}
+    own = client.get("/v1/rigs", params={"owner": MEMBER}, headers=member).json()
+    assert own["total"] >= 1 and {r["visibility"] for r in own["items"]} == {"private"}
+    assert client.get("/v1/rigs", params={"owner": MEMBER}).json()["total"] == 0
+    club = {"Authorization": f"Bearer {demo.club_key}"}
+    assert client.get("/v1/telescopes", params={"owner": MEMBER}, headers=club).json()["total"] == 0
+
+
+def test_seeding_again_adds_keys_not_duplicates(app, client):
+    first = seed_demo(app.state.engine)
+    total = client.get("/v1/rigs").json()["total"]
+    second = seed_demo(app.state.engine)
+    assert client.get("/v1/rigs").json()["total"] == total
+    assert second.club_key != first.club_key
+    for key in (first.club_key, second.club_key):
+        assert client.get("/v1/accounts/me", headers={"Authorization": f"Bearer {key}"}).status_code == 200
