@@ -19,6 +19,7 @@ from starlette.concurrency import run_in_threadpool
 from api import db, problems
 from api.limits import BodySizeLimit
 from api.routes import accounts, calculators, cameras, comparisons, health, modifiers, mounts, rigs, telescopes
+from api.routes import evaluations
 from api.routes import plugins as plugins_routes
 from api.routes.health import _version
 from api.settings import Settings
@@ -41,7 +42,7 @@ near the Sun without a proper full-aperture solar filter.
 # Hot routes first: the router tries routes in this order.
 ROUTERS = (
     health, comparisons, calculators, plugins_routes, accounts, telescopes, cameras, modifiers,
-    mounts, rigs,
+    mounts, rigs, evaluations,
 )
 
 
