@@ -379,3 +379,31 @@ def test_an_empty_feasible_set_answers_with_empty_front_and_top(client):
     body = evaluation(client, request(constraints={"sampling.pixel_scale_arcsec": {"min": 100}}))
     assert (body["feasible"], body["front"], body["top"]) == (0, [], [])
     assert body["baseline_feasible"] is False and body["baseline"]["score"] is None
+
+
+def _readme_blocks():
+    """The request and answer JSON blocks of README's "Purchase evaluations" section."""
+    import json
+    import re
+    from pathlib import Path
+
+    text = (Path(__file__).resolve().parents[3] / "README.md").read_text(encoding="utf-8")
+    section = text[text.index("### Purchase evaluations"):]
+    section = section[:section.index("\n### ", 1)]
+    request_block, answer_block = re.findall(r"```json\n(.*?)```", section, flags=re.S)[:2]
+    return json.loads(request_block), answer_block
+
+
+def test_the_readme_example_answers_as_the_readme_shows(client):
+    # Keeps the documentation in step with the service (a docs check, not a reference test).
+    import json
+    import re
+
+    body, shown = _readme_blocks()
+    answer = evaluation(client, body)
+    first_row = json.loads(re.search(r'\{"indices".*?"score": [^}]*\}', shown, flags=re.S).group(0))
+    assert first_row in answer["front"]
+    head = json.loads(re.search(r'^\{("evaluated": \d+, "feasible": \d+)', shown).group(0) + "}")
+    assert {k: answer[k] for k in head} == head
+    units = json.loads(re.search(r'"units": (\{.*?\})', shown, flags=re.S).group(1))
+    assert answer["units"] == units
