@@ -118,6 +118,7 @@ def _local(body: dict[str, Any], settings: Settings, chunk_rows: int | None, *,
            show_progress: bool) -> dict[str, Any]:
     from pydantic import ValidationError
 
+    from api.evaluating import MAX_FRONT_ROWS
     from api.problems import field_path
     from calculators.evaluation_schemas import InlineEvaluationRequest
     from calculators.sweep import DEFAULT_CHUNK_ROWS, EvaluationError, evaluate_spec
@@ -143,6 +144,7 @@ def _local(body: dict[str, Any], settings: Settings, chunk_rows: int | None, *,
             spec.telescopes, spec.cameras, spec.modifiers, spec.mounts, spec,
             calculators=registry.calculators, max_combinations=settings.max_combinations,
             chunk_rows=chunk_rows, progress=ProgressBar(sys.stderr) if show_progress else None,
+            max_front_rows=MAX_FRONT_ROWS,
         )
     except EvaluationError as exc:
         where = field_path(exc.loc) if exc.loc else "request"

@@ -28,6 +28,11 @@ from calculators.sweep import EvaluationError, TooManyCombinations
 LISTS = {"telescope": "telescopes", "camera": "cameras", "modifier": "modifiers", "mount": "mounts"}
 MODELS = {"telescope": Telescope, "camera": Camera, "modifier": Modifier, "mount": Mount}
 
+#: Most rows a front may hold in an answer. Combinations with equal objective values are all on the
+#: front, so ties (one objective that depends on a single kind, identical candidates) can make it
+#: as large as the product; past this the request is refused before the rows are built.
+MAX_FRONT_ROWS = 10_000
+
 Components = tuple[list[Any], list[Any], list[Any], list[Any]]
 Ids = dict[str, list[int | None]]
 

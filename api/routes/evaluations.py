@@ -12,6 +12,7 @@ from starlette.responses import Response
 from api import problems
 from api.deps import Caller
 from api.evaluating import (
+    MAX_FRONT_ROWS,
     EvaluationRequest,
     as_problem,
     check_size,
@@ -48,6 +49,7 @@ async def create_evaluation(body: EvaluationRequest, request: Request, caller: C
         result = await run_in_threadpool(
             evaluate_spec, *components, body,
             calculators=state.registry.calculators, ids=ids, max_combinations=maximum,
+            max_front_rows=MAX_FRONT_ROWS,
         )
     except EvaluationError as exc:
         raise as_problem(exc, sizes(body)) from None

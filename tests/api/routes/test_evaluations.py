@@ -407,3 +407,17 @@ def test_the_readme_example_answers_as_the_readme_shows(client):
     assert {k: answer[k] for k in head} == head
     units = json.loads(re.search(r'"units": (\{.*?\})', shown, flags=re.S).group(1))
     assert answer["units"] == units
+
+
+def test_a_front_of_ties_beyond_the_maximum_is_refused(client):
+    from api.evaluating import MAX_FRONT_ROWS
+
+    # Every candidate telescope the same and one objective that depends on the telescope only: every
+    # combination ties, so all of them are on the front — 101 × 100 cameras = 10,100 rows.
+    body = {"telescopes": TELESCOPES[:1] * 101, "cameras": CAMERAS[1:] * 100,
+            "objectives": {"light_grasp.clear_area_mm2": "max"}}
+    assert MAX_FRONT_ROWS == 10_000
+    problem = assert_problem(client.post("/v1/evaluations", json=body), 422, "objectives")
+    assert problem["title"] == "Front too large" and "10,100 combinations" in problem["detail"]
+    body["telescopes"] = TELESCOPES[:1] * 100
+    assert len(evaluation(client, body)["front"]) == 10_000
