@@ -1,5 +1,5 @@
 """POST /v1/evaluations: the contract of issue 6, stored ids and who may read them, agreement with the
-comparison route and the engine, and each refusal as a problem naming its field.
+comparison route and the engine, CSV, and each refusal as a problem naming its field.
 
 The reference for a whole sweep is the comparison route: every combination sent as one inline rig,
 then filtered and fronted here in plain Python from the definitions (a combination is feasible when
@@ -9,6 +9,8 @@ feasible combination is no worse on every objective and better on one).
 
 from __future__ import annotations
 
+import csv
+import io
 import itertools
 import math
 
@@ -421,3 +423,50 @@ def test_a_front_of_ties_beyond_the_maximum_is_refused(client):
     assert problem["title"] == "Front too large" and "10,100 combinations" in problem["detail"]
     body["telescopes"] = TELESCOPES[:1] * 100
     assert len(evaluation(client, body)["front"]) == 10_000
+
+
+def test_csv_is_the_same_answer_as_a_table(client, alice):
+    mount = client.post("/v1/mounts", json=MOUNTS[0], headers=alice.headers).json()
+    body = request(mounts=[{"id": mount["id"]}, MOUNTS[1]], limit=4)
+    data = evaluation(client, body, headers=alice.headers)
+    response = client.post("/v1/evaluations", json=body, headers={**alice.headers, "Accept": "text/csv"})
+    assert response.status_code == 200 and response.headers["content-type"].startswith("text/csv")
+    assert response.text.endswith("\r\n")  # RFC 4180 line breaks
+    lines = list(csv.DictReader(io.StringIO(response.text)))
+    expected = ([("front", r) for r in data["front"]] + [("top", r) for r in data["top"]]
+                + [("baseline", data["baseline"])])
+    assert [line["set"] for line in lines] == [name for name, _ in expected]
+    for line, (name, row) in zip(lines, expected):
+        assert {kind: int(line[kind]) for kind in AXES} == row["indices"]
+        assert {kind: (int(line[f"{kind}_id"]) if line[f"{kind}_id"] else None) for kind in AXES} == row["ids"]
+        for key, value in row["values"].items():
+            unit = data["units"][key]
+            cell = line[f"{key} [{unit}]" if unit else key]
+            assert (float(cell) if cell else None) == value
+        assert float(line["score"]) == row["score"]
+    assert [int(line["rank"]) for line in lines if line["set"] == "top"] == list(range(1, len(data["top"]) + 1))
+
+
+@pytest.mark.parametrize(("accept", "csv_expected"), [
+    ("text/csv", True), ("application/json", False), ("text/csv;q=0.5, application/json", False), ("*/*", False),
+])
+def test_accept_header_chooses_the_format(client, accept, csv_expected):
+    response = client.post("/v1/evaluations", json=request(), headers={"Accept": accept})
+    assert response.status_code == 200
+    assert response.headers["content-type"].startswith("text/csv" if csv_expected else "application/json")
+
+
+def test_problems_stay_problem_documents_when_csv_is_asked_for(client):
+    response = client.post("/v1/evaluations", json=request(cameras=[]), headers={"Accept": "text/csv"})
+    assert_problem(response, 422, "cameras")
+
+
+def test_the_openapi_document_gives_the_exact_shapes(app):
+    operation = app.openapi()["paths"]["/v1/evaluations"]["post"]
+    assert set(operation["responses"]["200"]["content"]) == {"application/json", "text/csv"}
+    assert operation["responses"]["200"]["content"]["application/json"]["schema"] == {
+        "$ref": "#/components/schemas/EvaluationResult"}
+    assert {"400", "401", "413", "415", "422"} <= set(operation["responses"])
+    schemas = app.openapi()["components"]["schemas"]
+    assert set(schemas["EvaluationResult"]["required"]) >= {"evaluated", "feasible", "front", "top"}
+    assert set(schemas["EvaluationRequest"]["required"]) == {"telescopes", "cameras", "objectives"}
