@@ -202,7 +202,10 @@ class RigBatch(Mapping[str, np.ndarray]):
         values = np.asarray(values)
         if values.ndim == 0:
             return values
-        index = tuple(i if n > 1 else 0 for i, n in zip(self.baseline, values.shape))
+        # Broadcasting aligns trailing axes, so an output with fewer axes than the batch lines up
+        # with the batch's last axes.
+        baseline = self.baseline[len(self.baseline) - values.ndim:]
+        index = tuple(i if n > 1 else 0 for i, n in zip(baseline, values.shape))
         return values[index]
 
     def relative(self, values: np.ndarray) -> np.ndarray:

@@ -13,6 +13,7 @@ from typing import Annotated
 from pydantic import BaseModel, ConfigDict, Field, ValidationInfo, field_validator
 
 from calculators.units import (
+    Micrometres,
     NonNegativeKilograms,
     NonNegativeMillimetres,
     PositiveKilograms,
@@ -163,7 +164,7 @@ class Modifier(Strict):
 
 class Camera(Strict):
     name: Name | None = None
-    pixel_size_um: float = Field(gt=0, le=100, description="Pixel pitch in micrometres.")
+    pixel_size_um: Micrometres = Field(gt=0, le=100, description="Pixel pitch in micrometres.")
     width_px: int = Field(gt=0, le=200_000)
     height_px: int = Field(gt=0, le=200_000)
     quantum_efficiency: float | None = Field(default=None, gt=0, le=1)

@@ -9,10 +9,12 @@ validation error that names the field.
 from __future__ import annotations
 
 import math
+import numbers
 import re
 from functools import cache
 from typing import Annotated, Any
 
+import numpy as np
 import pint
 from pydantic import BeforeValidator, Field
 
@@ -26,13 +28,16 @@ def unit_registry() -> pint.UnitRegistry:
 def to_canonical(value: Any, unit: str) -> float:
     """Convert a number (already in ``unit``) or a string with a unit into a float in ``unit``.
 
-    >>> to_canonical("12 in", "mm")
+    >>> round(to_canonical("12 in", "mm"), 9)  # pint gives 304.79999999999995 (binary floats)
     304.8
     """
-    if isinstance(value, bool):
+    if isinstance(value, (bool, np.bool_)):
         raise ValueError("expected a number or a string with a unit, not a boolean")
-    if isinstance(value, (int, float)):
-        number = float(value)
+    if isinstance(value, numbers.Real):  # int, float and numpy scalars alike
+        try:
+            number = float(value)
+        except OverflowError:  # an int beyond the float range: a validation error, not a crash
+            number = math.inf
     elif isinstance(value, str):
         number = _parse_string(value, unit)
     else:
@@ -86,6 +91,7 @@ def _quantity(unit: str):
 
 # Annotated field types: the canonical unit is fixed here, the bounds at each field.
 Millimetres = Annotated[float, _quantity("mm")]
+Micrometres = Annotated[float, _quantity("um")]
 Kilograms = Annotated[float, _quantity("kg")]
 
 PositiveMillimetres = Annotated[Millimetres, Field(gt=0)]

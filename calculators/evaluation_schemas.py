@@ -1,0 +1,119 @@
+"""Request and response models of a purchase evaluation (a sweep over candidate equipment).
+
+The service's ``POST /v1/evaluations`` route builds its request model from :class:`EvaluationSpec`
+(adding component lists that may hold ``{"id": N}`` references it resolves) and returns
+:class:`EvaluationResult` as it comes from :func:`calculators.sweep.evaluate`.
+:class:`InlineEvaluationRequest` is the same request with every component given inline, for scripts.
+"""
+
+from __future__ import annotations
+
+from typing import Any, Literal
+
+from pydantic import BaseModel, Field
+
+from calculators.schemas import Camera, Modifier, Mount, Strict, Telescope
+
+#: Largest ``limit`` a request may ask for.
+MAX_LIMIT = 1000
+
+Direction = Literal["min", "max"]
+
+
+class Bounds(Strict):
+    """Inclusive bounds on one numeric output; give ``min``, ``max`` or both."""
+
+    min: float | None = Field(default=None, description="Smallest acceptable value (inclusive).")
+    max: float | None = Field(default=None, description="Largest acceptable value (inclusive).")
+
+
+class Indices(Strict):
+    """One combination, as an index into each of the request's component lists."""
+
+    telescope: int = Field(default=0, ge=0)
+    camera: int = Field(default=0, ge=0)
+    modifier: int = Field(default=0, ge=0)
+    mount: int = Field(default=0, ge=0)
+
+
+class Ids(BaseModel):
+    """Stored ids of a combination's components (null for a component given inline or absent)."""
+
+    telescope: int | None = None
+    camera: int | None = None
+    modifier: int | None = None
+    mount: int | None = None
+
+
+class EvaluationSpec(Strict):
+    """What to compute and how to choose: everything of a request except the component lists."""
+
+    constraints: dict[str, Bounds] = Field(
+        default_factory=dict,
+        description='Bounds per output, keyed "<calculator>.<output>"; a combination is feasible '
+        "when every constrained output is defined and within its bounds.",
+        examples=[{"sampling.pixel_scale_arcsec": {"min": 0.7, "max": 2.0}}],
+    )
+    objectives: dict[str, Direction] = Field(
+        description='"min" or "max" per output, keyed "<calculator>.<output>"; at least one.',
+        examples=[{"cost.total_price": "min", "speed.time_factor_per_arcsec2": "min"}],
+    )
+    params: dict[str, dict[str, Any]] = Field(
+        default_factory=dict, description="Params per calculator, by calculator name."
+    )
+    baseline: Indices = Field(
+        default_factory=Indices,
+        description="The combination relative outputs (ratios, time factors) are measured "
+        "against; default the first of each list.",
+    )
+    limit: int = Field(default=20, ge=0, le=MAX_LIMIT, description="How many rows `top` holds.")
+
+
+class InlineEvaluationRequest(EvaluationSpec):
+    """A whole evaluation request with every component given inline."""
+
+    telescopes: list[Telescope] = Field(min_length=1)
+    cameras: list[Camera] = Field(min_length=1)
+    modifiers: list[Modifier | None] = Field(
+        default_factory=lambda: [None], min_length=1, description="null means no modifier."
+    )
+    mounts: list[Mount | None] = Field(
+        default_factory=lambda: [None], min_length=1, description="null means no mount."
+    )
+
+
+class EvaluationRow(BaseModel):
+    """One combination and its values."""
+
+    indices: Indices
+    ids: Ids
+    values: dict[str, float | None] = Field(
+        description='Every constrained and objective output, keyed "<calculator>.<output>"; '
+        "null where undefined."
+    )
+    score: float | None = Field(
+        description="Ranking score (lower is better; see `top`); null for an infeasible row."
+    )
+
+
+class EvaluationResult(BaseModel):
+    """The answer to an evaluation."""
+
+    evaluated: int = Field(description="Size of the cartesian product of the component lists.")
+    feasible: int = Field(description="How many combinations meet every constraint.")
+    front: list[EvaluationRow] = Field(
+        description="Every Pareto-optimal feasible combination on the objectives, ordered by the "
+        "first objective (best first), then the next ones, then by indices."
+    )
+    top: list[EvaluationRow] = Field(
+        description="The best `limit` feasible combinations by score, best first. Score: each "
+        "objective scaled to 0 at its best feasible value (ideal point) and 1 at its worst value "
+        "on the front (nadir point), summed over the objectives; ties go to the better objective "
+        "values in the order given, then to the lower indices."
+    )
+    baseline: EvaluationRow = Field(description="The baseline combination, feasible or not.")
+    baseline_feasible: bool
+    units: dict[str, str] = Field(description='Unit of each value key ("" when dimensionless).')
+    cautions: dict[str, list[str]] = Field(
+        default_factory=dict, description="Cautions of the calculators used, by calculator."
+    )

@@ -1,0 +1,212 @@
+"""Tests of calculators/cost.py: total price, price per cm² of clear aperture and per étendue, currencies."""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
+from pydantic import ValidationError
+
+from calculators.base import NoParams
+from calculators.batch import RigBatch
+from calculators.cost import Cost, CostParams
+from calculators.errors import CalculationError
+from calculators.etendue import Etendue
+from calculators.schemas import Camera, Rig, Telescope
+from calculators.units import unit_registry
+from plugins.runner import run
+from rig_strategies import (
+    assert_batch_equals_single_rigs,
+    assert_outputs_equal,
+    assert_sweep_equals_rigs,
+    compute,
+    in_imperial_units,
+    rig_dicts,
+    rig_lists,
+    rigs,
+    sweeps,
+)
+
+CALC = Cost()
+amounts = st.floats(0, 20_000)
+
+
+def price(amount, currency="EUR"):
+    return None if amount is None else {"amount": amount, "currency": currency}
+
+
+def rig(telescope=None, camera=None, modifier=None, mount=None, accessories=(), currency="EUR",
+        aperture_mm=200, obstruction_mm=0.0) -> Rig:
+    data = {
+        "name": "rig",
+        "telescope": {"aperture_mm": aperture_mm, "focal_length_mm": 1000, "obstruction_mm": obstruction_mm,
+                      "price": price(telescope, currency)},
+        "camera": {"pixel_size_um": 3.76, "width_px": 6248, "height_px": 4176,
+                   "price": price(camera, currency)},
+        "accessories": [{"name": "part", "price": price(a, currency)} for a in accessories],
+    }
+    if modifier is not None:
+        data["modifier"] = {"kind": "flattener", "factor": 1.0, "price": price(modifier, currency)}
+    if mount is not None:
+        data["mount"] = {"capacity_kg": 20, "price": price(mount, currency)}
+    return Rig.model_validate(data)
+
+
+def outputs(*rig_list, **params):
+    return compute(CALC, RigBatch.from_rigs(list(rig_list)), CostParams(**params))
+
+
+def units(*rig_list, **params):
+    return CALC.output_units(RigBatch.from_rigs(list(rig_list)), CostParams(**params))
+
+
+# --- properties ----------------------------------------------------------------------------------
+
+@given(amounts, st.none() | amounts, st.none() | amounts, st.none() | amounts,
+       st.lists(st.none() | amounts, max_size=3))
+@settings(deadline=None)
+def test_total_is_the_sum_of_the_priced_components(telescope, camera, modifier, mount, accessories):
+    r = rig(telescope, camera, modifier, mount, accessories)
+    priced = [p for p in (telescope, camera, modifier, mount, *accessories) if p is not None]
+    # Additions of up to eight prices: 1e-14 relative rounding.
+    assert outputs(r)["total_price"][0] == pytest.approx(math.fsum(priced), rel=1e-14)
+
+
+@given(st.lists(amounts, min_size=1, max_size=4), st.floats(0.01, 100))
+@settings(deadline=None)
+def test_exchange_rates_convert_each_price_before_adding(amounts_usd, rate):
+    r = rig(telescope=1000.0, camera=amounts_usd[0], mount=None, currency="EUR")
+    data = r.model_dump()
+    data["camera"]["price"] = {"amount": amounts_usd[0], "currency": "USD"}
+    data["accessories"] = [{"name": "part", "price": price(a, "USD")} for a in amounts_usd[1:]]
+    mixed = Rig.model_validate(data)
+    total = outputs(mixed, currency="EUR", exchange_rates={"USD": rate})["total_price"][0]
+    assert total == pytest.approx(1000.0 + rate * math.fsum(amounts_usd), rel=1e-13)
+
+
+@given(rigs(), st.floats(0.1, 10))
+@settings(deadline=None)
+def test_price_per_cm2_scales_inversely_with_the_clear_area(r, k):
+    t = r.telescope
+    small = rig(telescope=500.0, aperture_mm=t.aperture_mm, obstruction_mm=t.obstruction_mm)
+    large_d = t.aperture_mm * math.sqrt(k)
+    large = rig(telescope=500.0, aperture_mm=large_d, obstruction_mm=t.obstruction_mm * math.sqrt(k))
+    out = outputs(small, large)
+    assert out["price_per_cm2"][1] * k == pytest.approx(out["price_per_cm2"][0], rel=1e-12)
+
+
+@given(rig_lists(max_size=5))
+@settings(deadline=None, max_examples=50)
+def test_batch_results_equal_single_rig_results_row_by_row(rig_list):
+    assert_batch_equals_single_rigs(CALC, rig_list)
+
+
+@given(sweeps())
+@settings(deadline=None, max_examples=40)
+def test_sweep_batch_equals_one_row_per_combination(sweep):
+    assert_sweep_equals_rigs(CALC, *sweep)
+
+
+@given(rig_dicts())
+@settings(deadline=None)
+def test_unit_strings_give_the_same_answer_as_canonical_numbers(data):
+    canonical = outputs(Rig.model_validate(data))
+    imperial = outputs(Rig.model_validate(in_imperial_units(data)))
+    assert_outputs_equal(CALC, imperial, canonical, rtol=1e-12)  # inch round trips: a few ulp
+
+
+# --- references ----------------------------------------------------------------------------------
+
+def test_price_per_cm2_divides_by_the_area_net_of_the_obstruction():
+    # Plane geometry (annulus π/4·(D² − d²)) converted from mm² to cm² with pint (1 cm² = 100 mm²).
+    r = rig(telescope=1000.0, camera=800.0, obstruction_mm=60)
+    area_cm2 = unit_registry().Quantity(math.pi / 4 * (200**2 - 60**2), "mm^2").to("cm^2").magnitude
+    out = outputs(r)
+    assert out["total_price"][0] == 1800.0
+    assert out["price_per_cm2"][0] == pytest.approx(1800.0 / area_cm2, rel=1e-14)
+
+
+def test_price_per_etendue_uses_the_etendue_calculators_value():
+    # Same étendue as calculators/etendue.py, in cm²·deg² (1 m² = 10⁴ cm²).
+    r = rig(telescope=1000.0, camera=800.0, obstruction_mm=60)
+    batch = RigBatch.from_rigs([r])
+    etendue_cm2_deg2 = Etendue().compute(batch, NoParams())["etendue_m2_deg2"][0] * 1e4
+    out = outputs(r)
+    assert out["price_per_etendue_cm2_deg2"][0] == pytest.approx(1800.0 / etendue_cm2_deg2, rel=1e-14)
+
+
+def test_price_outputs_carry_the_currency_as_their_unit():
+    assert units(rig(telescope=100.0), rig(camera=5.0)) == {
+        "total_price": "EUR", "price_per_cm2": "EUR/cm^2",
+        "price_per_etendue_cm2_deg2": "EUR/(cm^2*deg^2)",
+    }
+    assert units(rig(telescope=100.0, currency="USD"))["total_price"] == "USD"
+    assert units(rig(telescope=100.0, currency="USD"), currency="EUR",
+                 exchange_rates={"USD": 0.9})["total_price"] == "EUR"
+
+
+def test_a_rig_with_no_price_has_a_null_total_not_zero():
+    out = outputs(rig(telescope=None), rig(telescope=300.0))
+    assert math.isnan(out["total_price"][0]) and out["total_price"][1] == 300.0
+    assert math.isnan(out["price_per_cm2"][0])
+    assert units(rig(telescope=None))["total_price"] == ""
+    assert all(o.nullable for o in CALC.outputs)
+
+
+def test_a_free_component_counts_as_priced_at_zero():
+    out = outputs(rig(telescope=0.0))
+    assert out["total_price"][0] == 0.0
+
+
+def test_mixed_currencies_without_rates_are_a_clear_error():
+    usd_camera = rig(telescope=1000.0).model_dump()
+    usd_camera["camera"]["price"] = {"amount": 500, "currency": "USD"}
+    mixed = Rig.model_validate(usd_camera)
+    with pytest.raises(CalculationError, match=r"camera_price: prices in USD cannot be added to .*EUR"):
+        outputs(mixed)
+    # Across rigs too: one result has one unit.
+    with pytest.raises(CalculationError, match="USD"):
+        outputs(rig(telescope=1.0), rig(telescope=1.0, currency="USD"))
+    # Through the runner it is the calculator's error, not an exception.
+    result = run(CALC, RigBatch.from_rigs([mixed]), CostParams())
+    assert result.values == {} and "exchange_rates" in result.error
+
+
+def test_a_missing_rate_is_named():
+    rigs_ = [rig(telescope=1.0), rig(telescope=1.0, currency="USD"), rig(telescope=1.0, currency="GBP")]
+    with pytest.raises(CalculationError, match="no exchange rate from GBP into EUR"):
+        outputs(*rigs_, currency="EUR", exchange_rates={"USD": 0.9})
+
+
+def test_a_target_currency_without_rates_refuses_other_currencies():
+    with pytest.raises(CalculationError, match="prices in USD cannot be added to prices in EUR"):
+        outputs(rig(telescope=1.0, currency="USD"), currency="EUR")
+    assert outputs(rig(telescope=7.0, currency="EUR"), currency="EUR")["total_price"][0] == 7.0
+
+
+def test_mixed_currencies_in_a_sweep_are_found_on_the_component_axes():
+    scopes = [Telescope(aperture_mm=100, focal_length_mm=500, price=price(300.0, c)) for c in ("EUR", "USD")]
+    cameras = [Camera(pixel_size_um=3.76, width_px=1000, height_px=800, price=price(200.0))]
+    batch = RigBatch.from_components(scopes, cameras)
+    with pytest.raises(CalculationError, match="telescope_price"):
+        CALC.compute(batch, CostParams())
+    out = CALC.compute(batch, CostParams(currency="EUR", exchange_rates={"USD": 0.5}))
+    np.testing.assert_allclose(np.broadcast_to(out["total_price"], batch.shape).ravel(), [500.0, 350.0])
+
+
+@pytest.mark.parametrize(
+    ("params", "message"),
+    [({"exchange_rates": {"USD": 0.9}}, "name the `currency`"),
+     ({"currency": "EUR", "exchange_rates": {"EUR": 2}}, "into itself must be 1"),
+     ({"currency": "EUR", "exchange_rates": {"usd": 0.9}}, "should match pattern"),
+     ({"currency": "EUR", "exchange_rates": {"USD": 0}}, "greater than 0"),
+     ({"currency": "EUR", "exchange_rates": {"USD": float("nan")}}, "finite"),
+     ({"currency": "euro"}, "should match pattern"),
+     ({"rates": {}}, "Extra inputs")],
+)
+def test_params_are_validated(params, message):
+    with pytest.raises(ValidationError, match=message):
+        CostParams(**params)

@@ -1,0 +1,135 @@
+"""Tests of calculators/light_grasp.py: clear area, area ratio, gain over the eye, limiting magnitude."""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
+
+from calculators.batch import RigBatch
+from calculators.light_grasp import LightGrasp, LightGraspParams
+from calculators.schemas import Rig
+from rig_strategies import (
+    MM_PER_INCH,
+    assert_batch_equals_single_rigs,
+    assert_outputs_equal,
+    assert_sweep_equals_rigs,
+    compute,
+    in_imperial_units,
+    rig_dicts,
+    rig_lists,
+    rigs,
+    sweeps,
+)
+
+CALC = LightGrasp()
+CAMERA = {"pixel_size_um": 3.76, "width_px": 6248, "height_px": 4176}
+
+
+def rig(aperture_mm, obstruction_mm=0.0) -> Rig:
+    return Rig(name=f"{aperture_mm} mm", camera=CAMERA,
+               telescope={"aperture_mm": aperture_mm, "focal_length_mm": 5 * aperture_mm,
+                          "obstruction_mm": obstruction_mm})
+
+
+def outputs(*rig_list, baseline=0, **params):
+    return compute(CALC, RigBatch.from_rigs(list(rig_list), baseline=baseline), LightGraspParams(**params))
+
+
+# --- properties ----------------------------------------------------------------------------------
+
+@given(rigs())
+@settings(deadline=None)
+def test_area_ratio_of_a_rig_against_itself_is_one(r):
+    assert outputs(r, r)["area_ratio"].tolist() == [1.0, 1.0]
+
+
+@given(rigs(), rigs(), rigs())
+@settings(deadline=None, max_examples=50)
+def test_area_ratios_multiply_through_a_third_rig(a, b, c):
+    via_a = outputs(a, b, c)["area_ratio"]
+    via_b = outputs(a, b, c, baseline=1)["area_ratio"]
+    # c/a = (c/b)·(b/a); three roundings of ~1e-16 each, so 1e-14 relative.
+    assert via_a[2] == pytest.approx(via_b[2] * via_a[1], rel=1e-14)
+
+
+@given(rigs(), st.floats(0.1, 10))
+@settings(deadline=None)
+def test_clear_area_scales_as_the_square_of_the_size(r, k):
+    t = r.telescope
+    scaled = rig(t.aperture_mm * k, t.obstruction_mm * k)
+    plain = rig(t.aperture_mm, t.obstruction_mm)
+    ratio = outputs(plain, scaled)["area_ratio"][1]
+    assert ratio == pytest.approx(k * k, rel=1e-12)  # a few roundings of squares and products
+
+
+@given(rig_lists(max_size=5))
+@settings(deadline=None, max_examples=50)
+def test_batch_results_equal_single_rig_results_row_by_row(rig_list):
+    assert_batch_equals_single_rigs(CALC, rig_list)
+
+
+@given(sweeps())
+@settings(deadline=None, max_examples=40)
+def test_sweep_batch_equals_one_row_per_combination(sweep):
+    assert_sweep_equals_rigs(CALC, *sweep)
+
+
+@given(rig_dicts())
+@settings(deadline=None)
+def test_unit_strings_give_the_same_answer_as_canonical_numbers(data):
+    canonical = outputs(Rig.model_validate(data))
+    imperial = outputs(Rig.model_validate(in_imperial_units(data)))
+    # inches round-trip through binary floats: a few ulp, 1e-12 relative after squaring
+    assert_outputs_equal(CALC, imperial, canonical, rtol=1e-12)
+
+
+# --- references ----------------------------------------------------------------------------------
+
+@pytest.mark.parametrize(
+    ("other_mm", "more_light", "tolerance"),
+    [
+        # Facts of the trade (common practice): a 12-inch aperture gathers about 19 % more light than
+        # an 11-inch, 125 % more than an 8-inch, about 600 % more than a 115 mm. "About" is read
+        # as ±0.5 percentage points for 19 %, exact for 125 %, ±1 % of the ratio for 600 %.
+        (11 * MM_PER_INCH, 0.19, 0.005),
+        (8 * MM_PER_INCH, 1.25, 1e-12),
+        (115.0, 6.00, 0.07),
+    ],
+)
+def test_twelve_inch_light_grasp_against_smaller_apertures(other_mm, more_light, tolerance):
+    ratio = outputs(rig(other_mm), rig(12 * MM_PER_INCH))["area_ratio"][1]
+    assert ratio - 1 == pytest.approx(more_light, abs=tolerance)
+
+
+def test_clear_area_is_the_annulus_area():
+    # Plane geometry: the area of an annulus is π(R² − r²). 200 mm with a 70 mm obstruction.
+    area = outputs(rig(200, 70))["clear_area_mm2"][0]
+    assert area == pytest.approx(math.pi * (100**2 - 35**2), rel=1e-15)
+
+
+def test_limiting_magnitude_gains_five_magnitudes_for_ten_times_the_aperture():
+    # Pogson (1856): five magnitudes are a factor 100 in brightness, and 10× the aperture is 100×
+    # the area. Exact in the formula; 1e-12 absolute for the logarithms' rounding.
+    m = outputs(rig(50), rig(500))["limiting_magnitude"]
+    assert m[1] - m[0] == pytest.approx(5.0, abs=1e-12)
+
+
+def test_limiting_magnitude_uses_the_stated_rule_of_thumb():
+    # m = 2.7 + 5·log10(D[mm]) (common practice; Sinnott 1973 as commonly quoted). 100 mm → 12.7.
+    assert outputs(rig(100))["limiting_magnitude"][0] == pytest.approx(12.7, abs=1e-12)
+
+
+def test_eye_gain_is_the_area_ratio_to_a_seven_millimetre_pupil():
+    # A 7 mm dark-adapted pupil (common practice); 70 mm unobstructed is (70/7)² = 100 times its area.
+    assert outputs(rig(70))["eye_gain"][0] == pytest.approx(100.0, rel=1e-14)
+    assert outputs(rig(70), eye_pupil_mm=5)["eye_gain"][0] == pytest.approx(196.0, rel=1e-14)
+
+
+def test_outputs_are_finite_numbers_with_declared_units():
+    out = outputs(rig(200, 70), rig(80))
+    assert all(np.isfinite(v).all() for v in out.values())
+    assert {o.name: o.unit for o in CALC.outputs}["clear_area_mm2"] == "mm^2"
