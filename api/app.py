@@ -18,7 +18,18 @@ from starlette.concurrency import run_in_threadpool
 
 from api import db, problems
 from api.limits import BodySizeLimit
-from api.routes import accounts, calculators, cameras, comparisons, health, modifiers, mounts, rigs, telescopes
+from api.routes import (
+    accounts,
+    calculators,
+    cameras,
+    comparisons,
+    health,
+    modifiers,
+    mounts,
+    plugins,
+    rigs,
+    telescopes,
+)
 from api.routes.health import _version
 from api.settings import Settings
 from plugins.registry import load_registry
@@ -38,7 +49,7 @@ near the Sun without a proper full-aperture solar filter.
 """
 
 # Hot routes first: the router tries routes in this order.
-ROUTERS = (health, comparisons, calculators, accounts, telescopes, cameras, modifiers, mounts, rigs)
+ROUTERS = (health, comparisons, calculators, plugins, accounts, telescopes, cameras, modifiers, mounts, rigs)
 
 
 def create_app(settings: Settings | None = None) -> FastAPI:

@@ -46,7 +46,8 @@ async def create_comparison(body: ComparisonRequest, request: Request, caller: C
         rigs, ids = inline_rigs(body), None
     args = (rigs, names, body.baseline, body.params)
     kwargs = {"registry": registry, "ids": ids}
-    if len(rigs) > THREADPOOL_RIGS:
+    # A third-party calculator runs under a time budget the caller waits on: never on the event loop.
+    if len(rigs) > THREADPOOL_RIGS or registry.runs_third_party(names):
         result = await run_in_threadpool(compare, *args, **kwargs)
     else:
         result = compare(*args, **kwargs)
