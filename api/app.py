@@ -18,18 +18,8 @@ from starlette.concurrency import run_in_threadpool
 
 from api import db, problems
 from api.limits import BodySizeLimit
-from api.routes import (
-    accounts,
-    calculators,
-    cameras,
-    comparisons,
-    health,
-    modifiers,
-    mounts,
-    plugins,
-    rigs,
-    telescopes,
-)
+from api.routes import accounts, calculators, cameras, comparisons, health, modifiers, mounts, rigs, telescopes
+from api.routes import plugins as plugins_routes
 from api.routes.health import _version
 from api.settings import Settings
 from plugins.registry import load_registry
@@ -49,7 +39,10 @@ near the Sun without a proper full-aperture solar filter.
 """
 
 # Hot routes first: the router tries routes in this order.
-ROUTERS = (health, comparisons, calculators, plugins, accounts, telescopes, cameras, modifiers, mounts, rigs)
+ROUTERS = (
+    health, comparisons, calculators, plugins_routes, accounts, telescopes, cameras, modifiers,
+    mounts, rigs,
+)
 
 
 def create_app(settings: Settings | None = None) -> FastAPI:
@@ -75,7 +68,9 @@ def create_app(settings: Settings | None = None) -> FastAPI:
     )
     app.state.settings = settings
     app.state.engine = db.make_engine(settings.database_url)
-    app.state.registry = load_registry(disabled=settings.disabled_plugins)
+    app.state.registry = load_registry(
+        disabled=settings.disabled_plugins, time_budget_s=settings.plugin_time_budget_s
+    )
 
     problems.install(app)
     for module in ROUTERS:

@@ -39,6 +39,10 @@ class Settings(BaseSettings):
         default_factory=list,
         description="Calculator names or plugin distribution names not to load (comma-separated).",
     )
+    plugin_time_budget_s: float = Field(
+        default=2.0, gt=0, le=600,
+        description="Longest a third-party calculator may compute for one request, in seconds.",
+    )
     cors_origins: Annotated[list[str], NoDecode] = Field(
         default_factory=list,
         description="Origins allowed to call the API from a browser (comma-separated); empty: none.",

@@ -46,7 +46,7 @@ async def create_comparison(body: ComparisonRequest, request: Request, caller: C
         rigs, ids = inline_rigs(body), None
     args = (rigs, names, body.baseline, body.params)
     kwargs = {"registry": registry, "ids": ids}
-    # A third-party calculator runs under a time budget the caller waits on: never on the event loop.
+    # A third-party calculator may wait out its time budget in a worker thread: never on the loop.
     if len(rigs) > THREADPOOL_RIGS or registry.runs_third_party(names):
         result = await run_in_threadpool(compare, *args, **kwargs)
     else:
