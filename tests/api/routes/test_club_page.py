@@ -181,3 +181,9 @@ def test_the_page_files_are_served_and_nothing_else(client):
 def test_the_page_is_not_in_the_api_document(client):
     paths = client.get("/openapi.json").json()["paths"]
     assert not any(path.startswith(("/clubs", "/static")) for path in paths)
+
+
+def test_links_in_the_embedded_look_open_outside_the_frame(client, demo):
+    framed = [a for a in elements(page(client, embed="1").text, "a")]
+    assert framed and all(a.get("target") == "_blank" for a in framed), framed
+    assert not any(a.get("target") for a in elements(page(client).text, "a"))

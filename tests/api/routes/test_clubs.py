@@ -270,7 +270,7 @@ CLUB_SITE = "https://www.lakeside-astro.example"
 
 
 @pytest.fixture
-def cors_client(settings):
+def cors_client(app, settings):  # app: the schema is migrated on both backends
     app = create_app(settings.model_copy(update={"cors_origins": [CLUB_SITE]}))
     with TestClient(app) as client:
         yield client
