@@ -21,6 +21,7 @@ from api import db, problems
 from api.limits import BodySizeLimit
 from api.routes import accounts, calculators, cameras, comparisons, health, modifiers, mounts, rigs, telescopes
 from api.routes import club_page, clubs
+from api.routes import evaluations
 from api.routes import plugins as plugins_routes
 from api.routes.health import _version
 from api.settings import Settings
@@ -43,7 +44,7 @@ near the Sun without a proper full-aperture solar filter.
 # Hot routes first: the router tries routes in this order.
 ROUTERS = (
     health, comparisons, calculators, plugins_routes, accounts, telescopes, cameras, modifiers,
-    mounts, rigs, clubs, club_page,
+    mounts, rigs, evaluations, clubs, club_page,
 )
 
 

@@ -11,6 +11,7 @@ import argparse
 import sys
 from collections.abc import Callable, Sequence
 
+from api.evaluate_command import add_evaluate
 from api.settings import Settings
 
 Handler = Callable[[argparse.Namespace, Settings], int]
@@ -127,7 +128,9 @@ def add_openapi(subparsers: argparse._SubParsersAction) -> None:
     parser.set_defaults(handler=run_openapi)
 
 
-COMMANDS: list[Callable[[argparse._SubParsersAction], None]] = [add_serve, add_accounts, add_db, add_openapi]
+COMMANDS: list[Callable[[argparse._SubParsersAction], None]] = [
+    add_serve, add_accounts, add_db, add_openapi, add_evaluate,
+]
 
 
 def build_parser() -> argparse.ArgumentParser:

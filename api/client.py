@@ -102,6 +102,11 @@ class RigbenchClient:
         return self._call("POST", "/v1/comparisons", json=_comparison(rigs, calculators, baseline, params),
                           headers={"Accept": "text/csv"}).text
 
+    def evaluate(self, request: Mapping[str, Any]) -> dict[str, Any]:
+        """A purchase evaluation: candidate lists (inline or ``{"id": N}``), constraints, objectives;
+        returns the counts, the Pareto front and the top rows (see the README for the shape)."""
+        return self._call("POST", "/v1/evaluations", json=dict(request)).json()
+
 
 def _kind(kind: str) -> str:
     if kind not in KINDS:

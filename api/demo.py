@@ -30,7 +30,7 @@ CLUB_EQUIPMENT: dict[str, tuple[Resource, dict[str, Any]]] = {
     "newtonian": (resources.TELESCOPES, {
         "name": "300 mm f/4 newtonian", "design": "newtonian", "aperture_mm": 300, "focal_length_mm": 1200,
         "obstruction_mm": 100, "mass_kg": 16, "length_mm": 1150, "tube_diameter_mm": 350,
-        "spider_vanes": 4, "price": _price(1600),
+        "spider_vanes": 4, "mirror_thickness_mm": 32, "price": _price(1600),
     }),
     "refractor": (resources.TELESCOPES, {
         "name": "80 mm f/6 refractor", "design": "refractor", "aperture_mm": 80, "focal_length_mm": 480,

@@ -153,6 +153,9 @@ class SlotRequest:
     slots: dict[str, Any]  # slot -> Ref | inline model | None
     loc: tuple[Any, ...] = ()
     public_only: bool = False
+    # False when ``loc`` already names the item (a list entry such as ("telescopes", 3)), so
+    # errors read "telescopes.3.id" rather than "telescopes.3.telescope.id".
+    slot_in_path: bool = True
 
 
 def resolve_slots(session: Session, principal: Principal | None, requests: Sequence[SlotRequest]) -> list[dict]:
@@ -177,7 +180,8 @@ def resolve_slots(session: Session, principal: Principal | None, requests: Seque
     for request in requests:
         out: dict[str, Any] = {}
         for slot, value in request.slots.items():
-            where = ".".join(map(str, (*request.loc, slot, "id")))
+            named = (slot,) if request.slot_in_path else ()
+            where = ".".join(map(str, (*request.loc, *named, "id")))
             if isinstance(value, schemas.Ref):
                 row = found[slot].get(value.id)
                 if row is None:

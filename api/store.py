@@ -45,6 +45,8 @@ def fetch_readable(
         select(table, Account.name)
         .join(Account, table.owner_id == Account.id)
         .where(table.id == item_id, readable_by(table, principal))
+        # Fresh column values even if this session already holds the row (e.g. between retries).
+        .execution_options(populate_existing=True)
     ).first()
     if found is None:
         raise not_found(label, item_id)

@@ -114,6 +114,10 @@ class TooManyCombinations(EvaluationError):
     title = "Too many combinations"
 
 
+class FrontTooLarge(EvaluationError):
+    title = "Front too large"
+
+
 class InvalidCalculatorParams(EvaluationError):
     """Params for a calculator failed validation; ``errors`` holds pydantic's error list."""
 
@@ -173,12 +177,16 @@ def evaluate(
     max_combinations: int = DEFAULT_MAX_COMBINATIONS,
     chunk_rows: int = DEFAULT_CHUNK_ROWS,
     progress: Progress | None = None,
+    max_front_rows: int | None = None,
 ) -> EvaluationResult:
     """Sweep telescopes × cameras × modifiers × mounts; return counts, the front and the top rows.
 
     ``calculators`` maps names to calculators (e.g. ``registry.calculators``); ``ids`` optionally
     gives stored ids per kind (``{"telescope": [7, None, ...], ...}``, aligned with the lists);
-    ``progress(done, total)`` is called after each chunk computed. Every bad input raises an
+    ``progress(done, total)`` is called after each chunk computed; ``max_front_rows`` refuses
+    (:class:`FrontTooLarge`) a front of more rows than an answer should hold, before they are
+    built (combinations with equal objective values are all on the front, so ties can make it as
+    large as the product). Every bad input raises an
     :class:`EvaluationError` (a :class:`RigbenchError` and ``ValueError``) whose ``loc`` names the
     field, before any heavy work; a calculator that refuses or fails on the components raises
     :class:`CalculatorFailed` (also a :class:`CalculationError`).
@@ -219,28 +227,43 @@ def evaluate(
         batch, plans, bounds, directions, nullable, chunk_rows, limit, progress
     )
 
+    if max_front_rows is not None and front.positions.size > max_front_rows:
+        raise FrontTooLarge(
+            f"objectives: {front.positions.size:,} combinations are on the Pareto front, more than "
+            f"the {max_front_rows:,} an answer may hold (combinations with equal objective values "
+            "are all on it); add an objective or a constraint that tells them apart, or shorten "
+            "a list of candidates",
+            loc=("objectives",),
+        )
+
     base_flat = int(np.ravel_multi_index(base, sizes))
     rows_flat = np.unique(np.concatenate(([base_flat], front.positions, top.positions)))
     values = _row_values(batch, plans, rows_flat, sizes, base_flat)
     keys = list(dict.fromkeys([*bounds, *directions]))
+    # Read into plain Python lists once: the front can hold thousands of rows, and per-row numpy
+    # scalar access costs more than building the row.
+    value_lists = {key: [_number(v) for v in values[key].tolist()] for key in keys}
+    index_lists = [ix.tolist() for ix in np.unravel_index(rows_flat, sizes)]
 
-    def row(flat: int, score: float | None) -> EvaluationRow:
-        # Built without re-validation: the front can hold thousands of rows of trusted numbers.
-        at = int(np.searchsorted(rows_flat, flat))
-        index = dict(zip(AXES, (int(i) for i in np.unravel_index(flat, sizes))))
-        return EvaluationRow.model_construct(
-            indices=Indices.model_construct(**index),
-            ids=Ids.model_construct(**{kind: id_lists[kind][i] for kind, i in index.items()}),
-            values={key: _number(values[key][at]) for key in keys},
-            score=score,
-        )
+    def rows(positions, scores) -> list[EvaluationRow]:
+        # Built without re-validation: trusted numbers, and many of them.
+        out = []
+        for at, score in zip(np.searchsorted(rows_flat, positions).tolist(), scores):
+            index = {kind: index_lists[axis][at] for axis, kind in enumerate(AXES)}
+            out.append(EvaluationRow.model_construct(
+                indices=Indices.model_construct(**index),
+                ids=Ids.model_construct(**{kind: id_lists[kind][i] for kind, i in index.items()}),
+                values={key: value_lists[key][at] for key in keys},
+                score=score,
+            ))
+        return out
 
     return EvaluationResult(
         evaluated=evaluated,
         feasible=feasible,
-        front=[row(int(p), float(s)) for p, s in zip(front.positions, front.scores)],
-        top=[row(int(p), float(s)) for p, s in zip(top.positions, top.scores)],
-        baseline=row(base_flat, base_score),
+        front=rows(front.positions, front.scores.tolist()),
+        top=rows(top.positions, top.scores.tolist()),
+        baseline=rows(np.array([base_flat]), [base_score])[0],
         baseline_feasible=base_score is not None,
         units={key: units[key] for key in keys},
         cautions={name: list(p.calculator.cautions) for name, p in plans.items()
@@ -257,7 +280,7 @@ def evaluate_spec(
     **options: Any,
 ) -> EvaluationResult:
     """:func:`evaluate` with the choices of a validated request model (``options``: calculators,
-    ids, max_combinations, chunk_rows, progress)."""
+    ids, max_combinations, chunk_rows, progress, max_front_rows)."""
     return evaluate(
         telescopes, cameras, modifiers, mounts,
         objectives=spec.objectives, constraints=spec.constraints, params=spec.params,

@@ -35,3 +35,22 @@ def test_seeding_again_adds_keys_not_duplicates(app, client):
     assert second.club_key != first.club_key
     for key in (first.club_key, second.club_key):
         assert client.get("/v1/accounts/me", headers={"Authorization": f"Bearer {key}"}).status_code == 200
+
+
+BUILT_INS = {
+    "light_grasp", "etendue", "speed", "sampling", "payload", "cost",
+    "resolution", "coma_field", "mirror_cooldown", "integration_time", "target_fit", "guiding",
+    "dome_clearance", "diffraction_spikes",
+}
+
+
+def test_every_built_in_calculator_computes_for_the_demo_rigs(app, client):
+    seed_demo(app.state.engine)
+    rigs = client.get("/v1/rigs", params={"owner": CLUB}).json()["items"]
+    body = {"rigs": [{"id": r["id"]} for r in rigs], "calculators": sorted(BUILT_INS)}
+    results = client.post("/v1/comparisons", json=body).json()["results"]
+    assert set(results) == BUILT_INS
+    for name, result in results.items():
+        assert result["error"] is None, (name, result["error"])
+        numbers = [v for out in result["outputs"].values() for v in out["values"] if isinstance(v, float)]
+        assert numbers, f"{name} gave no number for any demo rig"

@@ -5,26 +5,34 @@ mount's capacity) and two objectives (exposure time for equal signal per sky are
 Prints, in one run:
 
 * the in-process time of ``calculators.sweep.evaluate`` (best and median of several runs);
-* the time over HTTP (left for the service phase: see ``http_seconds``);
-* peak memory (tracemalloc peak of numpy and Python allocations during one call, and the process's
-  peak resident size);
+* the time over HTTP: ``POST /v1/evaluations`` with the same components inline, to ``rigbench serve``
+  (uvicorn) running in its own process on 127.0.0.1, timed from the client (request sent to answer
+  parsed), with the server's CPU time per request;
+* peak memory (tracemalloc peak of numpy and Python allocations during one call, the benchmark
+  process's peak resident size, and the server process's);
 * the ratio against a bare brute-force numpy kernel that gathers index arrays over the whole product
   (``np.indices``) and computes only the two constrained quantities, the two objectives and the front
   (with the same front function, so the ratio measures the sweep's layout, not the front);
 * the ratio against evaluating a sample of combinations one at a time through
   ``plugins.compare.compare``, extrapolated to the whole product.
 
-Goals on the 2-core machine: no slower than the brute-force kernel, ≤ 1 GB peak, ≥ 100× the
+Goals on the 2-core machine: over HTTP no slower than the brute-force kernel, ≤ 1 GB peak, ≥ 100× the
 one-at-a-time path. Run: ``python tests/bench/evaluation.py`` (a script, not a test).
 """
 
 from __future__ import annotations
 
+import json
+import os
 import resource
+import socket
 import statistics
+import subprocess
 import sys
+import tempfile
 import time
 import tracemalloc
+from dataclasses import dataclass
 from pathlib import Path
 
 import numpy as np
@@ -171,23 +179,112 @@ def brute_force_kernel(components):
     return (time.perf_counter() - start, time.thread_time() - cpu), int(mask.sum()), int(front.sum())
 
 
-def http_seconds(components, constraints, objectives) -> float | None:
-    # ---- HTTP TIMING: the service phase adds POST /v1/evaluations here ----------------------
-    # Start the app (uvicorn in a thread, or httpx against the ASGI app), send the same request
-    # with the components inline, and return the best of REPEATS wall-clock times.
-    return None
+@dataclass
+class HttpTiming:
+    best: float  # wall-clock seconds, client side, request sent to answer parsed
+    median: float
+    server_cpu: float  # the server process's CPU seconds per request (all threads), averaged
+    server_peak_mib: float  # the server process's peak resident size (VmHWM)
+    request_kib: float
+    answer_kib: float
+    answer: dict
+
+
+def request_body(components, constraints, objectives) -> bytes:
+    """The benchmark's request as POST /v1/evaluations takes it, every component inline."""
+    def inline(item):
+        return None if item is None else item.model_dump(mode="json", exclude_none=True)
+
+    telescopes, cameras, modifiers, mounts = components
+    return json.dumps({
+        "telescopes": [inline(t) for t in telescopes], "cameras": [inline(c) for c in cameras],
+        "modifiers": [inline(m) for m in modifiers], "mounts": [inline(m) for m in mounts],
+        "constraints": constraints, "objectives": objectives, "limit": 20,
+    }).encode()
+
+
+def _free_port() -> int:
+    with socket.socket() as s:
+        s.bind(("127.0.0.1", 0))
+        return s.getsockname()[1]
+
+
+def _cpu_seconds(pid: int) -> float:
+    """User + system CPU time of a process, all its threads (Linux /proc)."""
+    fields = Path(f"/proc/{pid}/stat").read_text().rsplit(")", 1)[1].split()
+    return (int(fields[11]) + int(fields[12])) / os.sysconf("SC_CLK_TCK")
+
+
+def _peak_mib(pid: int) -> float:
+    for line in Path(f"/proc/{pid}/status").read_text().splitlines():
+        if line.startswith("VmHWM:"):
+            return int(line.split()[1]) / 1024
+    return float("nan")
+
+
+def http_timing(components, constraints, objectives) -> HttpTiming:
+    """POST /v1/evaluations to a real server: ``rigbench serve`` (uvicorn) in its own process on
+    127.0.0.1, on a fresh SQLite file; best and median of REPEATS requests after two warm-ups."""
+    import httpx
+
+    payload = request_body(components, constraints, objectives)
+    port = _free_port()
+    with tempfile.TemporaryDirectory() as data:
+        env = {**os.environ, "RIGBENCH_DATA_DIR": data}
+        env.pop("RIGBENCH_DATABASE_URL", None)
+        server = subprocess.Popen(
+            [sys.executable, "-m", "api.cli", "serve", "--port", str(port), "--log-level", "warning"],
+            env=env, stdout=subprocess.DEVNULL, stderr=subprocess.PIPE, text=True,
+            cwd=Path(__file__).resolve().parents[2],
+        )
+        try:
+            base = f"http://127.0.0.1:{port}"
+            deadline = time.monotonic() + 60
+            while True:
+                try:
+                    if httpx.get(f"{base}/healthz").status_code == 200:
+                        break
+                except httpx.TransportError:
+                    pass
+                if server.poll() is not None or time.monotonic() > deadline:
+                    raise RuntimeError(f"the server did not start: {server.stderr.read()}")
+                time.sleep(0.1)
+            headers = {"Content-Type": "application/json"}
+            with httpx.Client(base_url=base, timeout=120) as client:
+                def post():
+                    response = client.post("/v1/evaluations", content=payload, headers=headers)
+                    if response.status_code != 200:
+                        raise RuntimeError(f"{response.status_code}: {response.text[:500]}")
+                    return response
+
+                for _ in range(2):  # warm-up: imports, first-use caches, connection
+                    post()
+                cpu = _cpu_seconds(server.pid)
+                times = []
+                for _ in range(REPEATS):
+                    start = time.perf_counter()
+                    response = post()
+                    answer = response.json()
+                    times.append(time.perf_counter() - start)
+                server_cpu = (_cpu_seconds(server.pid) - cpu) / REPEATS
+                peak = _peak_mib(server.pid)
+        finally:
+            server.terminate()
+            server.wait(timeout=20)
+    return HttpTiming(min(times), statistics.median(times), server_cpu, peak,
+                      len(payload) / 1024, len(response.content) / 1024, answer)
 
 
 def timed(call, repeats=REPEATS):
-    """Result, best and median wall-clock seconds, best CPU seconds of this thread (steadier
-    than wall-clock time when other processes share the machine)."""
+    """Result, best and median wall-clock seconds, best and mean CPU seconds of this thread
+    (steadier than wall-clock time when other processes share the machine)."""
     times, cpu_times = [], []
     for _ in range(repeats):
         start, cpu = time.perf_counter(), time.thread_time()
         out = call()
         times.append(time.perf_counter() - start)
         cpu_times.append(time.thread_time() - cpu)
-    return out, min(times), statistics.median(times), min(cpu_times)
+    return out, min(times), statistics.median(times), min(cpu_times), statistics.fmean(cpu_times)
 
 
 def main() -> None:
@@ -203,22 +300,29 @@ def main() -> None:
         return evaluate(*components, objectives=objectives, constraints=constraints, limit=20,
                         calculators=registry.calculators)
 
-    result, best, median, cpu = timed(run)
+    result, best, median, cpu, cpu_mean = timed(run)
     print(f"\nin-process evaluate(): best {best * 1e3:.1f} ms, median {median * 1e3:.1f} ms "
-          f"(CPU best {cpu * 1e3:.1f} ms) over {REPEATS} runs; feasible {result.feasible:,}, "
+          f"(CPU best {cpu * 1e3:.1f} ms, mean {cpu_mean * 1e3:.1f} ms) over {REPEATS} runs; "
+          f"feasible {result.feasible:,}, "
           f"front {len(result.front)} rows")
 
     chunk_rows = 250_000
-    chunked, c_best, c_median, _ = timed(lambda: evaluate(
+    chunked, c_best, c_median, _, _ = timed(lambda: evaluate(
         *components, objectives=objectives, constraints=constraints, limit=20,
         calculators=registry.calculators, chunk_rows=chunk_rows))
     same = chunked.model_dump() == result.model_dump()
     print(f"  in chunks of {chunk_rows:,} (4 chunks, each computed twice): best {c_best * 1e3:.1f} ms,"
           f" median {c_median * 1e3:.1f} ms; {'same result' if same else 'RESULT DIFFERS: a bug'}")
 
-    http = http_seconds(components, constraints, objectives)
-    print("over HTTP: " + ("not measured yet (added with the service: see http_seconds)"
-                           if http is None else f"best {http * 1e3:.1f} ms"))
+    http = http_timing(components, constraints, objectives)
+    same = http.answer == result.model_dump(mode="json")
+    print(f"over HTTP (POST /v1/evaluations to uvicorn on 127.0.0.1, its own process): best "
+          f"{http.best * 1e3:.1f} ms, median {http.median * 1e3:.1f} ms (server CPU "
+          f"{http.server_cpu * 1e3:.1f} ms per request, mean, all threads) over {REPEATS} "
+          f"requests; request "
+          f"{http.request_kib:.0f} KiB, answer {http.answer_kib:.0f} KiB; "
+          f"{'same answer as evaluate()' if same else 'ANSWER DIFFERS from evaluate(): a bug'}")
+    print(f"  server peak resident size: {http.server_peak_mib:.0f} MiB")
 
     tracemalloc.start()
     run()
@@ -231,6 +335,7 @@ def main() -> None:
     kernel_best = min(k[0][0] for k in kernel_times)
     kernel_median = statistics.median(k[0][0] for k in kernel_times)
     kernel_cpu = min(k[0][1] for k in kernel_times)
+    kernel_cpu_mean = statistics.fmean(k[0][1] for k in kernel_times)
     _, kernel_feasible, kernel_front = kernel_times[0]
     agree = (kernel_feasible, kernel_front) == (result.feasible, len(result.front))
     if agree:
@@ -240,10 +345,14 @@ def main() -> None:
     else:
         verdict = "DIFFERS from the engine: a bug"
     print(f"brute-force kernel: best {kernel_best * 1e3:.1f} ms, median {kernel_median * 1e3:.1f} ms "
-          f"(CPU best {kernel_cpu * 1e3:.1f} ms); feasible {kernel_feasible:,}, front {kernel_front} "
+          f"(CPU best {kernel_cpu * 1e3:.1f} ms, mean {kernel_cpu_mean * 1e3:.1f} ms); "
+          f"feasible {kernel_feasible:,}, front {kernel_front} "
           f"({verdict})")
     print(f"  ratio kernel / evaluate: {kernel_best / best:.2f}× on best times, "
           f"{kernel_median / median:.2f}× on medians, {kernel_cpu / cpu:.2f}× on CPU time")
+    print(f"  ratio kernel / HTTP: {kernel_best / http.best:.2f}× on best times, "
+          f"{kernel_median / http.median:.2f}× on medians, "
+          f"{kernel_cpu_mean / http.server_cpu:.2f}× on mean CPU time (the server's, all threads)")
 
     rng = np.random.default_rng(7)
     picks = [tuple(int(rng.integers(n)) for n in SHAPE) for _ in range(SAMPLE)]
@@ -260,6 +369,7 @@ def main() -> None:
     print(f"one at a time through compare(): {per_combination * 1e6:.0f} µs per combination "
           f"(sample of {SAMPLE}), so about {whole:.0f} s for the whole product")
     print(f"  ratio one-at-a-time / evaluate: {whole / best:,.0f}×")
+    print(f"  ratio one-at-a-time / HTTP: {whole / http.best:,.0f}×")
 
     rss = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024  # KiB on Linux
     print(f"\nprocess peak resident size (whole run, incl. interpreter and kernel): {rss:.0f} MiB")

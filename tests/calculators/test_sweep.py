@@ -25,6 +25,7 @@ from calculators.sweep import (
     CalculatorFailed,
     ContradictoryBounds,
     EvaluationError,
+    FrontTooLarge,
     InvalidCalculatorParams,
     NotNumeric,
     TooManyCombinations,
@@ -431,6 +432,18 @@ def test_nothing_feasible_gives_empty_front_and_top_and_the_baseline_row():
     assert result.baseline_feasible is False and result.baseline.score is None
     assert result.baseline.values["light_grasp.clear_area_mm2"] == pytest.approx(
         math.pi / 4 * 100**2, rel=1e-15)  # area of a 100 mm circle, π/4·D²
+
+
+def test_a_front_above_max_front_rows_is_refused_and_one_at_it_is_answered():
+    # One objective that depends on the telescope only, and the same telescope three times: all
+    # 3 × 4 combinations tie, so all twelve are on the front.
+    lists = (SCOPES[:1] * 3, CAMS * 4)
+    assert len(run(lists=lists, max_front_rows=12).front) == 12
+    with pytest.raises(FrontTooLarge) as caught:
+        run(lists=lists, max_front_rows=11)
+    assert caught.value.loc == ("objectives",) and "12 combinations are on the Pareto front" in str(
+        caught.value)
+    assert len(run(lists=lists).front) == 12  # no maximum unless asked
 
 
 def test_ids_must_match_the_lists():
