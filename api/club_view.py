@@ -220,7 +220,8 @@ def bars_picture(comparison: ClubComparison, ident: str = "bars") -> str | None:
 
 def _price(item: Any) -> str:
     price = getattr(item, "price", None)
-    return f"{price.amount:.0f} {price.currency}" if price is not None else "—"
+    # A no-break space keeps the amount and its currency on one line.
+    return f"{price.amount:.0f}\u00a0{price.currency}" if price is not None else "—"
 
 
 def _mass(item: Any) -> str:
