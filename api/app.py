@@ -12,6 +12,7 @@ from contextlib import asynccontextmanager
 from typing import Any
 
 from fastapi import FastAPI
+from fastapi_offline import FastAPIOffline
 from fastapi.middleware.cors import CORSMiddleware
 from fastapi.openapi.utils import get_openapi
 from starlette.concurrency import run_in_threadpool
@@ -19,6 +20,7 @@ from starlette.concurrency import run_in_threadpool
 from api import db, problems
 from api.limits import BodySizeLimit
 from api.routes import accounts, calculators, cameras, comparisons, health, modifiers, mounts, rigs, telescopes
+from api.routes import club_page, clubs
 from api.routes import evaluations
 from api.routes import plugins as plugins_routes
 from api.routes.health import _version
@@ -42,7 +44,7 @@ near the Sun without a proper full-aperture solar filter.
 # Hot routes first: the router tries routes in this order.
 ROUTERS = (
     health, comparisons, calculators, plugins_routes, accounts, telescopes, cameras, modifiers,
-    mounts, rigs, evaluations,
+    mounts, rigs, evaluations, clubs, club_page,
 )
 
 
@@ -60,12 +62,15 @@ def create_app(settings: Settings | None = None) -> FastAPI:
         yield
         app.state.engine.dispose()
 
-    app = FastAPI(
+    # The docs pages load Swagger UI 5 and ReDoc from the installed fastapi-offline package, never a
+    # CDN, so /docs works with no internet (Swagger UI 5 renders OpenAPI 3.1; the older 4 cannot).
+    app = FastAPIOffline(
         title="rigbench",
         version=_version(),
         description=DESCRIPTION,
         lifespan=lifespan,
         license_info={"name": "MIT", "identifier": "MIT"},
+        swagger_ui_parameters={"validatorUrl": None},  # no call to an outside validator
     )
     app.state.settings = settings
     app.state.engine = db.make_engine(settings.database_url)

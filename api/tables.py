@@ -48,3 +48,13 @@ def comparison_csv(comparison: Comparison) -> str:
         row = [rig.id, rig.name, i == comparison.baseline, *(column[i] for column in values)]
         writer.writerow([_cell(v) for v in row])
     return buffer.getvalue()
+
+
+def records_csv(columns: list[str], rows: list[list[object]]) -> str:
+    """Any table as CSV, with the same cell rules and line breaks as a comparison."""
+    buffer = io.StringIO()
+    writer = csv.writer(buffer, lineterminator="\r\n")
+    writer.writerow(columns)
+    for row in rows:
+        writer.writerow([_cell(v) for v in row])
+    return buffer.getvalue()
