@@ -58,6 +58,11 @@ async def optional_caller(
     wait for the threadpool or the database.
     """
     if credentials is None:
+        if request.headers.get("authorization"):
+            # Another scheme (Basic…) or an empty Bearer: answering as if anonymous would hide the
+            # caller's own items without a word.
+            raise ApiProblem(401, "send the key as 'Authorization: Bearer <key>'",
+                             headers={"WWW-Authenticate": 'Bearer error="invalid_request"'})
         return None
     limits, address = rate_limits(request), client_address(request)
     # Checked before the lookup: an address that used up its failed attempts tries no more keys.
