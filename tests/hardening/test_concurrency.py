@@ -86,12 +86,13 @@ def run_trial(base_urls: list[str], key: str) -> None:
     check_nothing_lost(tallies, final)
 
 
-@pytest.mark.parametrize("backend", ["sqlite", "postgres"])
+@pytest.mark.parametrize("backend", ["sqlite", pytest.param("postgres", marks=pytest.mark.postgres)])
 def test_no_update_is_lost_with_if_match_on_one_server(backend, tmp_path):
     with database(backend, tmp_path) as data, Server(data.url, tmp_path) as server:
         run_trial([server.url], data.key)
 
 
+@pytest.mark.postgres
 def test_no_update_is_lost_with_two_servers_sharing_one_postgres(tmp_path):
     with database("postgres", tmp_path) as data:
         with Server(data.url, tmp_path, name="first") as first, Server(data.url, tmp_path, name="second") as second:

@@ -59,7 +59,7 @@ def latest_per_item(acked: list) -> dict[int, tuple[int, str]]:
     return latest
 
 
-@pytest.mark.parametrize("backend", ["sqlite", "postgres"])
+@pytest.mark.parametrize("backend", ["sqlite", pytest.param("postgres", marks=pytest.mark.postgres)])
 def test_every_acknowledged_write_survives_a_sigkill(backend, tmp_path):
     with database(backend, tmp_path) as data:
         server = Server(data.url, tmp_path).start()
