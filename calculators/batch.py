@@ -171,7 +171,10 @@ class RigBatch(Mapping[str, np.ndarray]):
     shape: tuple[int, ...] = field(init=False)
 
     def __post_init__(self) -> None:
-        shape = np.broadcast_shapes(*(np.shape(v) for v in self.columns.values()))
+        shapes = {np.shape(v) for v in self.columns.values()}
+        # A comparison batch has one shape throughout; broadcast_shapes costs more than a small
+        # comparison's arithmetic, so it runs only when the shapes differ (a sweep).
+        shape = next(iter(shapes)) if len(shapes) == 1 else np.broadcast_shapes(*shapes)
         if len(self.baseline) != len(shape):
             raise ValueError(f"baseline {self.baseline} does not index a batch of shape {shape}")
         for index, size in zip(self.baseline, shape):

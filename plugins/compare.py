@@ -9,7 +9,7 @@ from calculators.batch import RigBatch
 from calculators.errors import RigbenchError
 from calculators.schemas import Rig
 from plugins.registry import Registry, load_registry
-from plugins.results import CalculatorResult, Comparison, OutputValues, RigRef
+from plugins.results import Comparison
 from plugins.runner import parse_params, run, to_json_values
 
 
@@ -54,18 +54,21 @@ def compare(
     results = {}
     for name, calc in chosen.items():
         outcome = run(calc, batch, parsed[name])
-        results[name] = CalculatorResult(
-            version=calc.version,
-            outputs={
-                out: OutputValues(unit=outcome.units[out], values=to_json_values(values))
+        units = outcome.units
+        results[name] = {
+            "version": calc.version,
+            "outputs": {
+                out: {"unit": units[out], "values": to_json_values(values)}
                 for out, values in outcome.values.items()
             },
-            cautions=list(calc.cautions),
-            error=outcome.error,
-        )
+            "cautions": list(calc.cautions),
+            "error": outcome.error,
+        }
     ids = list(ids) if ids is not None else [None] * len(models)
-    return Comparison(
-        rigs=[RigRef(id=i, name=m.name) for i, m in zip(ids, models)],
-        baseline=baseline,
-        results=results,
-    )
+    # One validation of the whole tree (in pydantic's compiled core) instead of one model per
+    # output: for a few rigs, building some forty small models cost more than their arithmetic.
+    return Comparison.model_validate({
+        "rigs": [{"id": i, "name": m.name} for i, m in zip(ids, models)],
+        "baseline": baseline,
+        "results": results,
+    })
