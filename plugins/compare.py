@@ -45,7 +45,8 @@ def compare(
     if not names:
         raise BadComparison("calculators: name at least one calculator")
     params = dict(params or {})
-    chosen = {name: registry.get(name) for name in names}
+    loaded = registry.calculators  # built once: the property makes a new dict on every access
+    chosen = {name: loaded[name] if name in loaded else registry.get(name) for name in names}
     for name in params:
         if name not in chosen:
             raise BadComparison(f"params: {name!r} is not among the requested calculators")
