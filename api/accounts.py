@@ -31,6 +31,7 @@ class Principal:
 
     account: Account
     scope: KeyScope
+    key_id: int | None = None  # which key was used: rate limits count per key
 
     @property
     def can_write(self) -> bool:
@@ -96,4 +97,76 @@ def authenticate(session: Session, key: str) -> Principal | None:
     account = session.get(Account, row.account_id)
     if account is None:
         return None
-    return Principal(account=account, scope=KeyScope(row.scope))
+    return Principal(account=account, scope=KeyScope(row.scope), key_id=row.id)
+
+
+@dataclass(frozen=True)
+class KeyInfo:
+    """What may be shown about a key after its creation: never the key, never its hash."""
+
+    prefix: str
+    scope: str
+    created_at: str
+    revoked: bool
+
+
+def _account(session: Session, name: str) -> Account:
+    account = session.exec(select(Account).where(Account.name == name)).first()
+    if account is None:
+        raise AccountError(f"no account named {name!r}")
+    return account
+
+
+def list_keys(session: Session, name: str) -> list[KeyInfo]:
+    account = _account(session, name)
+    rows = session.exec(select(ApiKey).where(ApiKey.account_id == account.id).order_by(ApiKey.id)).all()
+    return [KeyInfo(r.prefix, r.scope, r.created_at.isoformat(timespec="seconds"), r.revoked_at is not None)
+            for r in rows]
+
+
+def new_account_key(session: Session, name: str, scope: KeyScope = KeyScope.write) -> str:
+    """A further key for the account (e.g. a read-only one for a club web page); shown once."""
+    key = add_key(session, _account(session, name), KeyScope(scope))
+    session.commit()
+    return key
+
+
+def _find_key(session: Session, account: Account, key_or_prefix: str) -> ApiKey:
+    """The account's live key named by its shown prefix or by the whole key (then matched by hash)."""
+    rows = session.exec(
+        select(ApiKey).where(ApiKey.account_id == account.id, ApiKey.revoked_at.is_(None))
+    ).all()
+    if key_or_prefix.startswith(KEY_PREFIX) and len(key_or_prefix) > 16:
+        digest = hash_key(key_or_prefix)
+        found = [r for r in rows if hmac.compare_digest(r.key_hash, digest)]
+    else:
+        found = [r for r in rows if r.prefix == key_or_prefix]
+    if not found:
+        raise AccountError(f"account {account.name!r} has no live key {key_or_prefix[:10]!r}…")
+    if len(found) > 1:
+        raise AccountError(f"several keys of {account.name!r} start with {key_or_prefix!r}; give the whole key")
+    return found[0]
+
+
+def revoke_key(session: Session, name: str, key_or_prefix: str) -> KeyInfo:
+    """Revoke one key; it is refused (401) from the next request on, by every server process."""
+    from api.models import utcnow
+
+    row = _find_key(session, _account(session, name), key_or_prefix)
+    row.revoked_at = utcnow()
+    session.add(row)
+    session.commit()
+    return KeyInfo(row.prefix, row.scope, row.created_at.isoformat(timespec="seconds"), True)
+
+
+def rotate_key(session: Session, name: str, key_or_prefix: str) -> str:
+    """Replace a key by a new one of the same scope, in one transaction; returns the new key."""
+    from api.models import utcnow
+
+    account = _account(session, name)
+    old = _find_key(session, account, key_or_prefix)
+    old.revoked_at = utcnow()
+    session.add(old)
+    key = add_key(session, account, KeyScope(old.scope))
+    session.commit()
+    return key

@@ -17,8 +17,9 @@ from fastapi.middleware.cors import CORSMiddleware
 from fastapi.openapi.utils import get_openapi
 from starlette.concurrency import run_in_threadpool
 
-from api import db, problems
+from api import db, problems, request_log
 from api.limits import BodySizeLimit
+from api.ratelimit import RateLimits
 from api.routes import accounts, calculators, cameras, comparisons, health, modifiers, mounts, rigs, telescopes
 from api.routes import club_page, clubs
 from api.routes import evaluations
@@ -77,6 +78,7 @@ def create_app(settings: Settings | None = None) -> FastAPI:
     app.state.registry = load_registry(
         disabled=settings.disabled_plugins, time_budget_s=settings.plugin_time_budget_s
     )
+    app.state.rate_limits = RateLimits.from_settings(settings)
 
     problems.install(app)
     for module in ROUTERS:
@@ -90,6 +92,10 @@ def create_app(settings: Settings | None = None) -> FastAPI:
             allow_headers=["Authorization", "Content-Type", "If-Match", "Accept"],
             expose_headers=["ETag", "Location"],
         )
+    # Outermost, so even a refused oversized body gets a request id and a log line.
+    app.add_middleware(request_log.RequestLog, enabled=settings.request_log)
+    if settings.request_log:
+        request_log.configure()
     app.openapi = lambda: openapi_document(app)  # type: ignore[method-assign]
     return app
 
@@ -113,8 +119,25 @@ def openapi_document(app: FastAPI) -> dict[str, Any]:
                     response["content"] = {
                         problems.MEDIA_TYPE: {"schema": {"$ref": "#/components/schemas/Problem"}}
                     }
+    declare_key_problems(document)
     # FastAPI's default validation-error shapes are replaced by Problem everywhere.
     for unused in ("HTTPValidationError", "ValidationError"):
         schemas.pop(unused, None)
     app.openapi_schema = document
     return document
+
+
+def declare_key_problems(document: dict[str, Any]) -> None:
+    """Operations that take a key may answer 429 (rate limits, api.ratelimit) and 503 (database down)."""
+    retry_after = {"Retry-After": {"description": "Seconds to wait before trying again.", "required": True,
+                                   "schema": {"type": "integer"}}}
+    content = {problems.MEDIA_TYPE: {"schema": {"$ref": "#/components/schemas/Problem"}}}
+    for path in document.get("paths", {}).values():
+        for operation in path.values():
+            if not operation.get("security"):
+                continue
+            responses = operation.setdefault("responses", {})
+            responses.setdefault("429", {"description": "Too Many Requests", "headers": retry_after,
+                                         "content": content})
+            responses.setdefault("503", {"description": "Service Unavailable", "headers": retry_after,
+                                         "content": content})

@@ -40,7 +40,9 @@ def run_serve(args: argparse.Namespace, settings: Settings) -> int:
         print(f"Demo club ({demo.club}) key: {demo.club_key}")
     engine.dispose()
     sys.stdout.flush()
-    uvicorn.run(create_app(settings), host=args.host, port=args.port, log_level=args.log_level)
+    # rigbench writes its own JSON request log (api.request_log); uvicorn's would repeat each line.
+    uvicorn.run(create_app(settings), host=args.host, port=args.port, log_level=args.log_level,
+                access_log=not settings.request_log)
     return 0
 
 
@@ -90,6 +92,10 @@ def add_accounts(subparsers: argparse._SubParsersAction) -> None:
     create.add_argument("--location")
     create.add_argument("--contact-url")
     create.set_defaults(handler=run_accounts_create)
+
+    from api.keys_cli import add_key_commands
+
+    add_key_commands(commands)
 
 
 # --- db -------------------------------------------------------------------------------------------

@@ -13,6 +13,7 @@ from starlette.concurrency import run_in_threadpool
 
 from api.accounts import Principal, authenticate
 from api.problems import ApiProblem
+from api.ratelimit import client_address, rate_limits
 from api.schemas import MAX_ID
 from api.settings import Settings
 from plugins.registry import Registry
@@ -57,16 +58,28 @@ async def optional_caller(
     wait for the threadpool or the database.
     """
     if credentials is None:
+        if request.headers.get("authorization"):
+            # Another scheme (Basic…) or an empty Bearer: answering as if anonymous would hide the
+            # caller's own items without a word.
+            raise ApiProblem(401, "send the key as 'Authorization: Bearer <key>'",
+                             headers={"WWW-Authenticate": 'Bearer error="invalid_request"'})
         return None
+    limits, address = rate_limits(request), client_address(request)
+    # Checked before the lookup: an address that used up its failed attempts tries no more keys.
+    await limits.refuse_if_failing(address)
     principal = await run_in_threadpool(_authenticate, request.app.state.engine, credentials.credentials)
     if principal is None:
+        await limits.count_failed_auth(address)
         raise ApiProblem(
             401, "the API key is unknown or revoked", headers={"WWW-Authenticate": 'Bearer error="invalid_token"'}
         )
+    request.state.account = principal.account.name  # for the request log (a handle, not a secret)
     return principal
 
 
-async def require_writer(caller: Annotated[Principal | None, Depends(optional_caller)]) -> Principal:
+async def require_writer(
+    request: Request, caller: Annotated[Principal | None, Depends(optional_caller)]
+) -> Principal:
     if caller is None:
         raise ApiProblem(
             401, "this request changes data: send 'Authorization: Bearer <key>'",
@@ -74,6 +87,7 @@ async def require_writer(caller: Annotated[Principal | None, Depends(optional_ca
         )
     if not caller.can_write:
         raise ApiProblem(403, "this key is read-only; use a read-write key to change data")
+    await rate_limits(request).count_write(caller.key_id, client_address(request))
     return caller
 
 

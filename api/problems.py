@@ -16,7 +16,7 @@ from fastapi import FastAPI, Request
 from fastapi.encoders import jsonable_encoder
 from fastapi.exceptions import RequestValidationError
 from pydantic import BaseModel, ConfigDict, Field, ValidationError
-from sqlalchemy.exc import IntegrityError, OperationalError
+from sqlalchemy.exc import DataError, IntegrityError, OperationalError
 from starlette.exceptions import HTTPException as StarletteHTTPException
 from starlette.responses import JSONResponse
 
@@ -163,7 +163,17 @@ async def _on_request_validation(request: Request, exc: RequestValidationError) 
     return render(request, validation_problem(errors))
 
 
+# FastAPI's words when the body is not even readable as JSON text (bad UTF-8, nesting past the
+# parser's recursion limit): said here as a malformed-JSON problem like any other unparsable body.
+UNREADABLE_BODY = "There was an error parsing the body"
+
+
 async def _on_http_exception(request: Request, exc: StarletteHTTPException) -> JSONResponse:
+    if exc.status_code == 400 and exc.detail == UNREADABLE_BODY:
+        return render(request, ApiProblem(
+            400, "the body cannot be read as JSON: it is not valid UTF-8, or it nests arrays and objects "
+            "too deeply", title="Malformed JSON", type="/problems/malformed-json",
+            errors=[FieldError(field="(body)", message="not valid JSON")]))
     detail = exc.detail if isinstance(exc.detail, str) else HTTPStatus(exc.status_code).phrase
     return render(request, ApiProblem(exc.status_code, detail, headers=getattr(exc, "headers", None)))
 
@@ -197,6 +207,14 @@ async def _on_integrity_error(request: Request, exc: Exception) -> JSONResponse:
                                            "read the items again and retry"))
 
 
+async def _on_data_error(request: Request, exc: Exception) -> JSONResponse:
+    # The database refused a value our schemas let through (a safety net: the schemas should catch
+    # it first, naming the field). Nothing was written.
+    log.warning("data error on %s %s: %s", request.method, request.url.path, type(exc).__name__)
+    return render(request, ApiProblem(422, "a value in the request cannot be stored by the database",
+                                      title="Invalid input", type="/problems/invalid-input"))
+
+
 async def _on_unexpected(request: Request, exc: Exception) -> JSONResponse:
     # Logged with its traceback for the operator; the client gets no internals.
     log.exception("unhandled error on %s %s", request.method, request.url.path)
@@ -210,6 +228,7 @@ def install(app: FastAPI) -> None:
     app.add_exception_handler(RigbenchError, _on_rigbench_error)
     app.add_exception_handler(OperationalError, _on_database_unavailable)
     app.add_exception_handler(IntegrityError, _on_integrity_error)
+    app.add_exception_handler(DataError, _on_data_error)
     app.add_exception_handler(Exception, _on_unexpected)
 
 

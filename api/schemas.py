@@ -10,7 +10,7 @@ from __future__ import annotations
 from datetime import datetime
 from typing import Annotated, Any
 
-from pydantic import BaseModel, ConfigDict, Discriminator, Field, Tag, create_model
+from pydantic import BaseModel, ConfigDict, Discriminator, Field, Tag, create_model, field_validator
 
 from calculators.schemas import (
     Accessory,
@@ -56,6 +56,13 @@ Visible = Annotated[
 ]
 
 
+def refuse_nul(value: Any) -> Any:
+    """A stored name may hold any character but NUL, which PostgreSQL's text columns cannot store."""
+    if isinstance(value, str) and "\x00" in value:
+        raise ValueError("must not contain the NUL character (U+0000)")
+    return value
+
+
 class ItemMeta(BaseModel):
     """What the service adds to every stored item."""
 
@@ -92,7 +99,7 @@ class EquipmentSchemas:
         title = label.capitalize()
         self.create = create_model(
             f"{title}Create", __base__=spec, visibility=(Visible, Visibility.private),
-            __doc__=f"A new {label}.",
+            __doc__=f"A new {label}.", __validators__={"_name_has_no_nul": field_validator("name")(refuse_nul)},
         )
         self.update = create_model(
             f"{title}Update", __base__=Strict, **_optional_fields(self.create),
@@ -132,6 +139,8 @@ class RigSlots(Strict):
 
 class RigCreate(RigSlots):
     visibility: Visible = Visibility.private
+
+    _name_has_no_nul = field_validator("name")(refuse_nul)
 
 
 RigUpdate = create_model(

@@ -57,8 +57,39 @@ class Settings(BaseSettings):
         default=5_000_000, gt=0, description="Most component combinations one evaluation may sweep."
     )
     max_page_size: int = Field(default=100, gt=0, le=10_000, description="Largest `limit` on list routes.")
+    rate_limit_writes_per_key: str = Field(
+        default="300/minute",
+        description="Most changes (POST, PUT, PATCH, DELETE) one API key may make, e.g. 300/minute; empty: no limit.",
+    )
+    rate_limit_writes_per_address: str = Field(
+        default="600/minute", description="Most changes from one client address, e.g. 600/minute; empty: no limit."
+    )
+    rate_limit_failed_auth: str = Field(
+        default="20/minute",
+        description="Most requests with an unknown or revoked key from one client address; empty: no limit.",
+    )
+    rate_limit_storage: str = Field(
+        default="memory://",
+        description="Where rate-limit counters live: memory:// (this process) or redis://host:port/db "
+        "(shared by every server process; needs the redis extra).",
+    )
+    request_log: bool = Field(
+        default=True, description="Write one JSON line per request (id, method, path, status, time) to stderr."
+    )
 
     _split = field_validator("disabled_plugins", "cors_origins", mode="before")(_split_list)
+
+    @field_validator("rate_limit_writes_per_key", "rate_limit_writes_per_address", "rate_limit_failed_auth")
+    @classmethod
+    def _a_rate(cls, value: str) -> str:
+        from limits import parse
+
+        if value.strip():
+            try:
+                parse(value)
+            except ValueError:
+                raise ValueError(f"{value!r} is not a rate such as '120/minute' or '10/second'") from None
+        return value.strip()
 
     @model_validator(mode="after")
     def _default_database(self) -> Settings:

@@ -146,8 +146,9 @@ def rig_extra_columns(rigs: Sequence[Rig]) -> dict[str, np.ndarray]:
 
 
 def _float_columns(names: Sequence[str], rows: list[tuple], n: int) -> dict[str, np.ndarray]:
-    table = np.array(rows, dtype=np.float64).reshape(n, len(names))
-    return {name: np.ascontiguousarray(table[:, i]) for i, name in enumerate(names)}
+    # One transposed copy: each column is then a contiguous row of it, with no copy per column.
+    table = np.array(rows, dtype=np.float64).reshape(n, len(names)).T.copy()
+    return dict(zip(names, table))
 
 
 def _along(columns: dict[str, np.ndarray], axis: int, ndim: int) -> dict[str, np.ndarray]:
@@ -171,7 +172,10 @@ class RigBatch(Mapping[str, np.ndarray]):
     shape: tuple[int, ...] = field(init=False)
 
     def __post_init__(self) -> None:
-        shape = np.broadcast_shapes(*(np.shape(v) for v in self.columns.values()))
+        shapes = {v.shape if type(v) is np.ndarray else np.shape(v) for v in self.columns.values()}
+        # A comparison batch has one shape throughout; broadcast_shapes costs more than a small
+        # comparison's arithmetic, so it runs only when the shapes differ (a sweep).
+        shape = next(iter(shapes)) if len(shapes) == 1 else np.broadcast_shapes(*shapes)
         if len(self.baseline) != len(shape):
             raise ValueError(f"baseline {self.baseline} does not index a batch of shape {shape}")
         for index, size in zip(self.baseline, shape):

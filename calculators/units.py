@@ -31,9 +31,12 @@ def to_canonical(value: Any, unit: str) -> float:
     >>> round(to_canonical("12 in", "mm"), 9)  # pint gives 304.79999999999995 (binary floats)
     304.8
     """
-    if isinstance(value, (bool, np.bool_)):
+    kind = type(value)
+    if kind is float:  # the common case first: the ABC check below costs more than the rest
+        number = value
+    elif isinstance(value, (bool, np.bool_)):
         raise ValueError("expected a number or a string with a unit, not a boolean")
-    if isinstance(value, numbers.Real):  # int, float and numpy scalars alike
+    elif isinstance(value, numbers.Real):  # int, float and numpy scalars alike
         try:
             number = float(value)
         except OverflowError:  # an int beyond the float range: a validation error, not a crash

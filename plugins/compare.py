@@ -9,7 +9,7 @@ from calculators.batch import RigBatch
 from calculators.errors import RigbenchError
 from calculators.schemas import Rig
 from plugins.registry import Registry, load_registry
-from plugins.results import CalculatorResult, Comparison, OutputValues, RigRef
+from plugins.results import Comparison
 from plugins.runner import parse_params, run, to_json_values
 
 
@@ -45,7 +45,8 @@ def compare(
     if not names:
         raise BadComparison("calculators: name at least one calculator")
     params = dict(params or {})
-    chosen = {name: registry.get(name) for name in names}
+    loaded = registry.calculators  # built once: the property makes a new dict on every access
+    chosen = {name: loaded[name] if name in loaded else registry.get(name) for name in names}
     for name in params:
         if name not in chosen:
             raise BadComparison(f"params: {name!r} is not among the requested calculators")
@@ -54,18 +55,21 @@ def compare(
     results = {}
     for name, calc in chosen.items():
         outcome = run(calc, batch, parsed[name])
-        results[name] = CalculatorResult(
-            version=calc.version,
-            outputs={
-                out: OutputValues(unit=outcome.units[out], values=to_json_values(values))
+        units = outcome.units
+        results[name] = {
+            "version": calc.version,
+            "outputs": {
+                out: {"unit": units[out], "values": to_json_values(values)}
                 for out, values in outcome.values.items()
             },
-            cautions=list(calc.cautions),
-            error=outcome.error,
-        )
+            "cautions": list(calc.cautions),
+            "error": outcome.error,
+        }
     ids = list(ids) if ids is not None else [None] * len(models)
-    return Comparison(
-        rigs=[RigRef(id=i, name=m.name) for i, m in zip(ids, models)],
-        baseline=baseline,
-        results=results,
-    )
+    # One validation of the whole tree (in pydantic's compiled core) instead of one model per
+    # output: for a few rigs, building some forty small models cost more than their arithmetic.
+    return Comparison.model_validate({
+        "rigs": [{"id": i, "name": m.name} for i, m in zip(ids, models)],
+        "baseline": baseline,
+        "results": results,
+    })

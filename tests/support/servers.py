@@ -1,0 +1,147 @@
+"""Real rigbench servers for tests: uvicorn processes on 127.0.0.1, and a database each can point at.
+
+``database(backend, tmp_path)`` gives a SQLite file URL or a fresh PostgreSQL schema on the server named by
+``RIGBENCH_TEST_POSTGRES_URL`` (dropped afterwards), migrated and holding one account whose key it
+returns. ``Server`` runs ``uvicorn --factory api.app:create_app`` against it.
+"""
+
+from __future__ import annotations
+
+import os
+import signal
+import socket
+import subprocess
+import sys
+import time
+import uuid
+from collections.abc import Iterator
+from contextlib import contextmanager
+from dataclasses import dataclass
+from pathlib import Path
+
+import httpx
+import pytest
+from sqlalchemy import create_engine, text
+from sqlalchemy.engine import make_url
+from sqlmodel import Session
+
+from api import db
+from api.accounts import create_account
+
+ROOT = Path(__file__).resolve().parents[2]
+POSTGRES_URL = os.environ.get("RIGBENCH_TEST_POSTGRES_URL", "")
+HOST = "127.0.0.1"
+
+# Servers under test must not refuse the load we put on them.
+NO_RATE_LIMITS = {"RIGBENCH_RATE_LIMIT_WRITES_PER_KEY": "", "RIGBENCH_RATE_LIMIT_WRITES_PER_ADDRESS": "",
+                  "RIGBENCH_RATE_LIMIT_FAILED_AUTH": ""}
+
+
+def free_port() -> int:
+    with socket.socket() as s:
+        s.bind((HOST, 0))
+        return s.getsockname()[1]
+
+
+@dataclass
+class Database:
+    url: str
+    key: str
+    sqlite_file: Path | None
+
+
+@contextmanager
+def database(backend: str, tmp_path: Path, account: str = "alice") -> Iterator[Database]:
+    """A migrated database with one account; skips the test when PostgreSQL is asked for but not given."""
+    if backend == "sqlite":
+        path = tmp_path / "rigbench.db"
+        url, cleanup, sqlite_file = f"sqlite:///{path.as_posix()}", None, path
+    else:
+        if not POSTGRES_URL:
+            pytest.skip("set RIGBENCH_TEST_POSTGRES_URL to run this against PostgreSQL (.ci/run does)")
+        schema = f"test_{uuid.uuid4().hex[:16]}"
+        admin = create_engine(POSTGRES_URL, isolation_level="AUTOCOMMIT")
+        with admin.connect() as connection:
+            connection.execute(text(f'CREATE SCHEMA "{schema}"'))
+        url = make_url(POSTGRES_URL).update_query_dict({"options": f"-csearch_path={schema}"})
+        url = url.render_as_string(hide_password=False)
+        sqlite_file = None
+
+        def cleanup() -> None:
+            with admin.connect() as connection:
+                connection.execute(text(f'DROP SCHEMA "{schema}" CASCADE'))
+            admin.dispose()
+    engine = db.make_engine(url)
+    try:
+        db.upgrade(engine)
+        with Session(engine) as session:
+            _account, key = create_account(session, account)
+        engine.dispose()
+        yield Database(url, key, sqlite_file)
+    finally:
+        engine.dispose()
+        if cleanup is not None:
+            cleanup()
+
+
+class Server:
+    """One uvicorn process serving rigbench on a free loopback port."""
+
+    def __init__(self, database_url: str, folder: Path, *, env: dict[str, str] | None = None, name: str = "server"):
+        self.database_url = database_url
+        self.folder = folder
+        self.extra_env = {**NO_RATE_LIMITS, **(env or {})}
+        self.name = name
+        self.port = free_port()
+        self.process: subprocess.Popen | None = None
+        self.log_path = folder / f"{name}.log"
+
+    @property
+    def url(self) -> str:
+        return f"http://{HOST}:{self.port}"
+
+    def start(self, timeout_s: float = 60) -> Server:
+        env = {**os.environ, "RIGBENCH_DATABASE_URL": self.database_url,
+               "RIGBENCH_DATA_DIR": str(self.folder / "data"), **self.extra_env}
+        log = open(self.log_path, "ab")
+        self.process = subprocess.Popen(
+            [sys.executable, "-m", "uvicorn", "--factory", "api.app:create_app", "--host", HOST,
+             "--port", str(self.port), "--no-access-log", "--log-level", "warning"],
+            cwd=ROOT, env=env, stdout=log, stderr=subprocess.STDOUT,
+        )
+        log.close()
+        deadline = time.monotonic() + timeout_s
+        while time.monotonic() < deadline:
+            if self.process.poll() is not None:
+                raise RuntimeError(f"{self.name} exited at start:\n{self.log()}")
+            try:
+                if httpx.get(f"{self.url}/healthz", timeout=1).status_code == 200:
+                    return self
+            except httpx.HTTPError:
+                time.sleep(0.1)
+        self.stop()
+        raise RuntimeError(f"{self.name} did not answer /healthz within {timeout_s} s:\n{self.log()}")
+
+    def kill(self) -> None:
+        """SIGKILL: no shutdown, no flushing, as in a crash or an out-of-memory kill."""
+        assert self.process is not None
+        self.process.send_signal(signal.SIGKILL)
+        self.process.wait(timeout=30)
+
+    def stop(self) -> None:
+        if self.process is not None and self.process.poll() is None:
+            self.process.terminate()
+            try:
+                self.process.wait(timeout=30)
+            except subprocess.TimeoutExpired:
+                self.process.kill()
+                self.process.wait(timeout=30)
+
+    def log(self) -> str:
+        return self.log_path.read_text(errors="replace") if self.log_path.exists() else ""
+
+    def __enter__(self) -> Server:
+        return self.start()
+
+    def __exit__(self, *exc) -> None:
+        self.stop()
