@@ -10,6 +10,7 @@ past one process; the API keeps no state between requests).
 
 from __future__ import annotations
 
+import json
 import threading
 from concurrent.futures import ThreadPoolExecutor
 from dataclasses import dataclass, field
@@ -86,10 +87,19 @@ def run_trial(base_urls: list[str], key: str) -> None:
     check_nothing_lost(tallies, final)
 
 
+def check_the_log_holds_no_key(server: Server, key: str) -> None:
+    """The server's own JSON request log: one line per request, each with an id, never the key."""
+    lines = [json.loads(line) for line in server.log().splitlines() if line.startswith("{")]
+    requests = [line for line in lines if line.get("logger") == "rigbench.access"]
+    assert len(requests) >= CLIENTS * ROUNDS and all(line["request_id"] for line in requests)
+    assert key not in server.log() and key[3:] not in server.log()
+
+
 @pytest.mark.parametrize("backend", ["sqlite", pytest.param("postgres", marks=pytest.mark.postgres)])
 def test_no_update_is_lost_with_if_match_on_one_server(backend, tmp_path):
     with database(backend, tmp_path) as data, Server(data.url, tmp_path) as server:
         run_trial([server.url], data.key)
+        check_the_log_holds_no_key(server, data.key)
 
 
 @pytest.mark.postgres
@@ -97,3 +107,5 @@ def test_no_update_is_lost_with_two_servers_sharing_one_postgres(tmp_path):
     with database("postgres", tmp_path) as data:
         with Server(data.url, tmp_path, name="first") as first, Server(data.url, tmp_path, name="second") as second:
             run_trial([first.url, second.url], data.key)
+            for server in (first, second):
+                assert data.key not in server.log()
