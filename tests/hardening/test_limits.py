@@ -1,7 +1,7 @@
 """Size limits at their edges: request body (413), rigs per comparison (default at least 1,000), page size.
 
-(Rate limits are tested in tests/api/test_ratelimit.py. Combinations per purchase evaluation are the
-evaluation route's own limit, tested with that route.)
+(Rate limits are tested in tests/api/test_ratelimit.py; combinations per purchase evaluation in
+tests/api/routes/test_evaluations.py, beside the evaluation route.)
 """
 
 from __future__ import annotations
