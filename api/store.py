@@ -96,15 +96,20 @@ def insert(session: Session, table: type[StoredItem], principal: Principal, valu
 
 
 def update_if_version(
-    session: Session, table: type[StoredItem], item_id: int, version: int, values: dict[str, Any]
+    session: Session, table: type[StoredItem], item_id: int, version: int, values: dict[str, Any],
+    *, commit: bool = True,
 ) -> bool:
-    """Apply ``values`` only if the stored version is still ``version``; True when it was."""
+    """Apply ``values`` only if the stored version is still ``version``; True when it was.
+
+    With ``commit=False`` the caller commits, so it can read its own write first (under the row lock).
+    """
     result = session.execute(
         update(table)
         .where(table.id == item_id, table.version == version)
         .values(**values, version=table.version + 1, updated_at=utcnow())
     )
-    session.commit()
+    if commit:
+        session.commit()
     return result.rowcount == 1
 
 

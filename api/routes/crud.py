@@ -38,8 +38,15 @@ def crud_router(resource: Resource) -> APIRouter:
             require_match(if_match, row.version, f"{label} {item_id}")
             values = resource.prepare(session, principal, new_body(row))
             resource.before_change(session, principal, row, values)
-            if update_if_version(session, table, item_id, row.version, values):
-                return fetch_readable(session, table, item_id, principal, label)
+            if update_if_version(session, table, item_id, row.version, values, commit=False):
+                # Read our own write before committing: the answer shows the version this update
+                # made, even when another server's update follows at once. Detached, so the commit
+                # does not expire it and a later attribute access cannot load a newer version.
+                found = fetch_readable(session, table, item_id, principal, label)
+                session.expunge(found[0])
+                session.commit()
+                return found
+            session.commit()
             if if_match is not None:
                 # Matched when read, changed by someone else before our write.
                 require_match(if_match, row.version + 1, f"{label} {item_id}")
