@@ -12,20 +12,25 @@ from contextlib import asynccontextmanager
 from typing import Any
 
 from fastapi import FastAPI
-from fastapi_offline import FastAPIOffline
 from fastapi.middleware.cors import CORSMiddleware
 from fastapi.openapi.utils import get_openapi
+from fastapi_offline import FastAPIOffline
 from starlette.concurrency import run_in_threadpool
 
-from api import db, problems, request_log
-from api.limits import BodySizeLimit
-from api.ratelimit import RateLimits
-from api.routes import accounts, calculators, cameras, comparisons, health, modifiers, mounts, rigs, telescopes
-from api.routes import club_page, clubs
-from api.routes import evaluations
-from api.routes import plugins as plugins_routes
-from api.routes.health import _version
+from api.accounts import routes as accounts
+from api.clubs import page as club_page
+from api.clubs import routes as clubs
+from api.comparisons import routes as comparisons
+from api.discovery import calculators
+from api.discovery import plugins as plugins_routes
+from api.equipment import cameras, modifiers, mounts, rigs, telescopes
+from api.evaluations import routes as evaluations
+from api.http import health, problems, request_log
+from api.http.body_limit import BodySizeLimit
+from api.http.health import _version
+from api.http.ratelimit import RateLimits
 from api.settings import Settings
+from api.storage import db
 from plugins.registry import load_registry
 
 log = logging.getLogger("rigbench.api")
@@ -128,7 +133,7 @@ def openapi_document(app: FastAPI) -> dict[str, Any]:
 
 
 def declare_key_problems(document: dict[str, Any]) -> None:
-    """Operations that take a key may answer 429 (rate limits, api.ratelimit) and 503 (database down)."""
+    """Operations that take a key may answer 429 (rate limits, api.http.ratelimit) and 503 (database down)."""
     retry_after = {"Retry-After": {"description": "Seconds to wait before trying again.", "required": True,
                                    "schema": {"type": "integer"}}}
     content = {problems.MEDIA_TYPE: {"schema": {"$ref": "#/components/schemas/Problem"}}}

@@ -11,7 +11,7 @@ import argparse
 import sys
 from collections.abc import Callable, Sequence
 
-from api.evaluate_command import add_evaluate
+from api.evaluations.command import add_evaluate
 from api.settings import Settings
 
 Handler = Callable[[argparse.Namespace, Settings], int]
@@ -22,8 +22,8 @@ Handler = Callable[[argparse.Namespace, Settings], int]
 def run_serve(args: argparse.Namespace, settings: Settings) -> int:
     import uvicorn
 
-    from api import db
     from api.app import create_app
+    from api.storage import db
 
     engine = db.make_engine(settings.database_url)
     if settings.is_sqlite:
@@ -40,7 +40,7 @@ def run_serve(args: argparse.Namespace, settings: Settings) -> int:
         print(f"Demo club ({demo.club}) key: {demo.club_key}")
     engine.dispose()
     sys.stdout.flush()
-    # rigbench writes its own JSON request log (api.request_log); uvicorn's would repeat each line.
+    # rigbench writes its own JSON request log (api.http.request_log); uvicorn's would repeat each line.
     uvicorn.run(create_app(settings), host=args.host, port=args.port, log_level=args.log_level,
                 access_log=not settings.request_log)
     return 0
@@ -60,8 +60,8 @@ def add_serve(subparsers: argparse._SubParsersAction) -> None:
 def run_accounts_create(args: argparse.Namespace, settings: Settings) -> int:
     from sqlmodel import Session
 
-    from api import db
-    from api.accounts import AccountError, create_account
+    from api.accounts.keys import AccountError, create_account
+    from api.storage import db
 
     engine = db.make_engine(settings.database_url)
     if settings.is_sqlite:
@@ -93,7 +93,7 @@ def add_accounts(subparsers: argparse._SubParsersAction) -> None:
     create.add_argument("--contact-url")
     create.set_defaults(handler=run_accounts_create)
 
-    from api.keys_cli import add_key_commands
+    from api.accounts.cli import add_key_commands
 
     add_key_commands(commands)
 
@@ -101,7 +101,7 @@ def add_accounts(subparsers: argparse._SubParsersAction) -> None:
 # --- db -------------------------------------------------------------------------------------------
 
 def run_db_upgrade(args: argparse.Namespace, settings: Settings) -> int:
-    from api import db
+    from api.storage import db
 
     engine = db.make_engine(settings.database_url)
     try:

@@ -9,11 +9,12 @@ from typing import Any
 from sqlalchemy import Engine
 from sqlmodel import Session, select
 
-from api import resources, schemas
-from api.accounts import Principal, add_key, create_account
-from api.models import Account, AccountKind, KeyScope, StoredItem
-from api.resources import Resource
-from api.store import insert
+from api import schemas
+from api.accounts.keys import Principal, add_key, create_account
+from api.equipment import rules as resources
+from api.equipment.rules import Resource
+from api.storage.models import Account, AccountKind, KeyScope, StoredItem
+from api.storage.store import insert
 
 CLUB = "kestrel-ridge-astro"
 MEMBER = "orla-demo"

@@ -11,9 +11,9 @@ from sqlalchemy import Engine
 from sqlmodel import Session
 from starlette.concurrency import run_in_threadpool
 
-from api.accounts import Principal, authenticate
-from api.problems import ApiProblem
-from api.ratelimit import client_address, rate_limits
+from api.accounts.keys import Principal, authenticate
+from api.http.problems import ApiProblem
+from api.http.ratelimit import client_address, rate_limits
 from api.schemas import MAX_ID
 from api.settings import Settings
 from plugins.registry import Registry

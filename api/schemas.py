@@ -12,6 +12,7 @@ from typing import Annotated, Any
 
 from pydantic import BaseModel, ConfigDict, Discriminator, Field, Tag, create_model, field_validator
 
+from api.storage.models import AccountKind, KeyScope, Visibility
 from calculators.schemas import (
     Accessory,
     Camera,
@@ -23,7 +24,6 @@ from calculators.schemas import (
     Strict,
     Telescope,
 )
-from api.models import AccountKind, KeyScope, Visibility
 
 MAX_ID = 2**63 - 1
 Id = Annotated[int, Field(ge=1, le=MAX_ID)]
@@ -43,7 +43,7 @@ def _slot_tag(value: Any) -> str:
 
 
 def slot(model: type[BaseModel]) -> Any:
-    """An inline ``model`` or ``{"id": N}``; the tags are dropped from error paths (api.problems)."""
+    """An inline ``model`` or ``{"id": N}``; the tags are dropped from error paths (api.http.problems)."""
     return Annotated[
         Annotated[Ref, Tag("stored")] | Annotated[model, Tag("inline")],
         Discriminator(_slot_tag),

@@ -38,7 +38,7 @@ that order.
 
 Example::
 
-    >>> from calculators.light_grasp import LightGrasp
+    >>> from calculators.builtin.light_grasp import LightGrasp
     >>> from calculators.schemas import Camera, Telescope
     >>> scopes = [Telescope(aperture_mm=a, focal_length_mm=1000) for a in (100, 200, 150)]
     >>> result = evaluate(scopes, [Camera(pixel_size_um=3.76, width_px=6248, height_px=4176)],

@@ -10,11 +10,10 @@ from __future__ import annotations
 import os
 import sys
 import uuid
+import warnings
 from collections.abc import Iterator
 from dataclasses import dataclass
 from pathlib import Path
-
-import warnings
 
 import pytest
 from starlette.exceptions import StarletteDeprecationWarning
@@ -27,11 +26,11 @@ from sqlalchemy import create_engine, text
 from sqlalchemy.engine import make_url
 from sqlmodel import Session
 
-from api import db
-from api.accounts import add_key, create_account
+from api.accounts.keys import add_key, create_account
 from api.app import create_app
-from api.models import AccountKind, KeyScope
 from api.settings import Settings
+from api.storage import db
+from api.storage.models import AccountKind, KeyScope
 
 # Plain helper modules (request bodies, problem assertions) for tests in any folder.
 sys.path.insert(0, str(Path(__file__).parent / "support"))

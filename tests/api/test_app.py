@@ -9,7 +9,7 @@ from api.app import create_app
 
 
 def test_importing_the_service_creates_no_files_and_no_app(tmp_path):
-    code = "import api.app, api.cli, api.demo, api.routes.comparisons; import api.app as a; assert not hasattr(a, 'app')"
+    code = "import api.app, api.cli, api.demo, api.comparisons.routes; import api.app as a; assert not hasattr(a, 'app')"
     subprocess.run([sys.executable, "-c", code], cwd=tmp_path, check=True)
     assert list(tmp_path.iterdir()) == []
 

@@ -14,9 +14,9 @@ import httpx
 import pytest
 from sqlmodel import Session
 
-from api import db
-from api.accounts import authenticate
+from api.accounts.keys import authenticate
 from api.cli import main
+from api.storage import db
 
 
 @pytest.fixture

@@ -39,7 +39,7 @@ import numpy as np
 
 sys.path.insert(0, str(Path(__file__).resolve().parents[1] / "calculators"))
 
-from calculators.light_grasp import clear_area_mm2  # noqa: E402
+from calculators.builtin.light_grasp import clear_area_mm2  # noqa: E402
 from calculators.pareto import front_of  # noqa: E402
 from calculators.schemas import Camera, Modifier, Mount, Price, Rig, Telescope  # noqa: E402
 from calculators.sweep import evaluate  # noqa: E402

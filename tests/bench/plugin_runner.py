@@ -17,7 +17,7 @@ from __future__ import annotations
 import timeit
 
 from calculators.batch import RigBatch
-from calculators.light_grasp import LightGrasp
+from calculators.builtin.light_grasp import LightGrasp
 from calculators.schemas import Rig
 from plugins.compare import compare
 from plugins.registry import load_registry

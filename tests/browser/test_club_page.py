@@ -23,8 +23,8 @@ from urllib.parse import urlsplit
 import httpx
 import pytest
 
-from api import db
 from api.demo import CLUB, seed_demo
+from api.storage import db
 
 CHROMIUM = Path("/usr/bin/chromium")
 ROOT = Path(__file__).resolve().parents[2]

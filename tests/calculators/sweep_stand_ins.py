@@ -13,8 +13,8 @@ from pydantic import Field
 
 from calculators.base import Calculator, Output
 from calculators.batch import PRICE_SLOTS, RigBatch
+from calculators.builtin.light_grasp import clear_area_mm2
 from calculators.errors import CalculationError
-from calculators.light_grasp import clear_area_mm2
 from calculators.schemas import Strict
 
 #: Arcseconds per radian, 180·3600/π (definition of the arcsecond).

@@ -1,9 +1,9 @@
-"""Tests of calculators/catalogue.py: OpenNGC look-ups through pyongc, with the dataset as reference."""
+"""Tests of calculators/builtin/catalogue.py: OpenNGC look-ups through pyongc, with the dataset as reference."""
 
 import pytest
 from pyongc import ongc
 
-from calculators.catalogue import close_matches, lookup, pretty
+from calculators.builtin.catalogue import close_matches, lookup, pretty
 
 
 @pytest.mark.parametrize("text", ["NGC 891", "NGC891", "ngc 891", "NGC0891"])
@@ -38,7 +38,7 @@ def test_pretty_names():
 
 
 def test_lookups_are_cached_and_misses_are_not():
-    from calculators.catalogue import _lookup
+    from calculators.builtin.catalogue import _lookup
 
     lookup("NGC 891")
     before = _lookup.cache_info()

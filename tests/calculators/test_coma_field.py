@@ -1,17 +1,22 @@
-"""Tests of calculators/coma_field.py: coma-free field of a paraboloid, sensor fit, collimation tolerance."""
+"""Tests of calculators/builtin/coma_field.py: coma-free field of a paraboloid, sensor fit, collimation tolerance."""
 
 import math
 
 import numpy as np
 import pytest
+from example_rigs import (
+    assert_sweep_equals_rows,
+    cameras,
+    demo_rigs,
+    modifiers,
+    outputs,
+    telescopes,
+)
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from calculators.coma_field import ComaField, ComaFieldParams
+from calculators.builtin.coma_field import ComaField, ComaFieldParams
 from calculators.schemas import Camera, Modifier, Rig, Telescope
-from example_rigs import (
-    assert_sweep_equals_rows, cameras, demo_rigs, modifiers, outputs, telescopes,
-)
 
 CALC = ComaField()
 

@@ -1,4 +1,4 @@
-"""Tests of calculators/cost.py: total price, price per cm² of clear aperture and per étendue, currencies."""
+"""Tests of calculators/builtin/cost.py: total price, price per cm² of clear aperture and per étendue, currencies."""
 
 from __future__ import annotations
 
@@ -9,15 +9,6 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 from pydantic import ValidationError
-
-from calculators.base import NoParams
-from calculators.batch import RigBatch
-from calculators.cost import Cost, CostParams
-from calculators.errors import CalculationError
-from calculators.etendue import Etendue
-from calculators.schemas import Camera, Rig, Telescope
-from calculators.units import unit_registry
-from plugins.runner import run
 from rig_strategies import (
     assert_batch_equals_single_rigs,
     assert_outputs_equal,
@@ -29,6 +20,15 @@ from rig_strategies import (
     rigs,
     sweeps,
 )
+
+from calculators.base import NoParams
+from calculators.batch import RigBatch
+from calculators.builtin.cost import Cost, CostParams
+from calculators.builtin.etendue import Etendue
+from calculators.errors import CalculationError
+from calculators.schemas import Camera, Rig, Telescope
+from calculators.units import unit_registry
+from plugins.runner import run
 
 CALC = Cost()
 amounts = st.floats(0, 20_000)
@@ -130,7 +130,7 @@ def test_price_per_cm2_divides_by_the_area_net_of_the_obstruction():
 
 
 def test_price_per_etendue_uses_the_etendue_calculators_value():
-    # Same étendue as calculators/etendue.py, in cm²·deg² (1 m² = 10⁴ cm²).
+    # Same étendue as calculators/builtin/etendue.py, in cm²·deg² (1 m² = 10⁴ cm²).
     r = rig(telescope=1000.0, camera=800.0, obstruction_mm=60)
     batch = RigBatch.from_rigs([r])
     etendue_cm2_deg2 = Etendue().compute(batch, NoParams())["etendue_m2_deg2"][0] * 1e4

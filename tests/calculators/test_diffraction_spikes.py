@@ -1,4 +1,4 @@
-"""Tests of calculators/diffraction_spikes.py, checked against a numerical Fraunhofer pattern.
+"""Tests of calculators/builtin/diffraction_spikes.py, checked against a numerical Fraunhofer pattern.
 
 The reference is physics rather than a quoted number: the Fraunhofer far field is the Fourier
 transform of the pupil (Hecht, Optics, 5th ed. 2017, ch. 10), computed here with numpy's FFT for a
@@ -10,12 +10,12 @@ from functools import cache
 
 import numpy as np
 import pytest
+from example_rigs import assert_sweep_equals_rows, cameras, demo_rigs, modifiers, outputs, telescopes
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from calculators.diffraction_spikes import DiffractionSpikes, DiffractionSpikesParams
+from calculators.builtin.diffraction_spikes import DiffractionSpikes, DiffractionSpikesParams
 from calculators.schemas import Camera, Rig, Telescope
-from example_rigs import assert_sweep_equals_rows, cameras, demo_rigs, modifiers, outputs, telescopes
 
 CALC = DiffractionSpikes()
 GRID = 1024  # FFT size; the pupil's radius is RADIUS pixels, so the far field is well sampled

@@ -1,17 +1,22 @@
-"""Tests of calculators/dome_clearance.py: swept radius of the tube against the dome."""
+"""Tests of calculators/builtin/dome_clearance.py: swept radius of the tube against the dome."""
 
 import math
 
 import numpy as np
 import pytest
+from example_rigs import (
+    assert_sweep_equals_rows,
+    cameras,
+    demo_rigs,
+    modifiers,
+    outputs,
+    telescopes,
+)
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from calculators.dome_clearance import DomeClearance, DomeClearanceParams
+from calculators.builtin.dome_clearance import DomeClearance, DomeClearanceParams
 from calculators.schemas import Camera, Mount, Rig, Telescope
-from example_rigs import (
-    assert_sweep_equals_rows, cameras, demo_rigs, modifiers, outputs, telescopes,
-)
 
 CALC = DomeClearance()
 

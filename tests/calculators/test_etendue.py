@@ -1,4 +1,4 @@
-"""Tests of calculators/etendue.py: field and pixel étendue, field solid angle, étendue ratio."""
+"""Tests of calculators/builtin/etendue.py: field and pixel étendue, field solid angle, étendue ratio."""
 
 from __future__ import annotations
 
@@ -9,11 +9,6 @@ import numpy as np
 import pytest
 from hypothesis import assume, given, settings
 from hypothesis import strategies as st
-
-from calculators.base import NoParams
-from calculators.batch import RigBatch
-from calculators.etendue import DEG2_PER_SR, Etendue, rectangle_solid_angle_sr
-from calculators.schemas import Rig
 from rig_strategies import (
     assert_batch_equals_single_rigs,
     assert_outputs_equal,
@@ -25,6 +20,11 @@ from rig_strategies import (
     rigs,
     sweeps,
 )
+
+from calculators.base import NoParams
+from calculators.batch import RigBatch
+from calculators.builtin.etendue import DEG2_PER_SR, Etendue, rectangle_solid_angle_sr
+from calculators.schemas import Rig
 
 CALC = Etendue()
 

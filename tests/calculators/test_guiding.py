@@ -1,4 +1,4 @@
-"""Tests of calculators/guiding.py: tolerated RMS guiding error and the guide camera scale."""
+"""Tests of calculators/builtin/guiding.py: tolerated RMS guiding error and the guide camera scale."""
 
 import math
 
@@ -6,12 +6,12 @@ import astropy.units as u
 import numpy as np
 import pytest
 from astropy.stats import gaussian_sigma_to_fwhm
+from example_rigs import assert_sweep_equals_rows, cameras, demo_rigs, modifiers, outputs, telescopes
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from calculators.guiding import GAUSSIAN_FWHM_PER_SIGMA, Guiding, GuidingParams
+from calculators.builtin.guiding import GAUSSIAN_FWHM_PER_SIGMA, Guiding, GuidingParams
 from calculators.schemas import Camera, Rig, Telescope
-from example_rigs import assert_sweep_equals_rows, cameras, demo_rigs, modifiers, outputs, telescopes
 
 CALC = Guiding()
 

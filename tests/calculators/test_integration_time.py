@@ -1,4 +1,4 @@
-"""Tests of calculators/integration_time.py: AB zero points, electron rates, the CCD equation."""
+"""Tests of calculators/builtin/integration_time.py: AB zero points, electron rates, the CCD equation."""
 
 import math
 
@@ -6,17 +6,17 @@ import astropy.constants as const
 import astropy.units as u
 import numpy as np
 import pytest
+from example_rigs import assert_sweep_equals_rows, cameras, demo_rigs, modifiers, outputs, telescopes
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from calculators.integration_time import (
+from calculators.builtin.integration_time import (
     PLANCK,
     IntegrationTime,
     IntegrationTimeParams,
     photon_rate_per_m2,
 )
 from calculators.schemas import Camera, Rig, Telescope
-from example_rigs import assert_sweep_equals_rows, cameras, demo_rigs, modifiers, outputs, telescopes
 
 CALC = IntegrationTime()
 

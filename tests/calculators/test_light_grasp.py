@@ -1,4 +1,4 @@
-"""Tests of calculators/light_grasp.py: clear area, area ratio, gain over the eye, limiting magnitude."""
+"""Tests of calculators/builtin/light_grasp.py: clear area, area ratio, gain over the eye, limiting magnitude."""
 
 from __future__ import annotations
 
@@ -8,10 +8,6 @@ import numpy as np
 import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
-
-from calculators.batch import RigBatch
-from calculators.light_grasp import LightGrasp, LightGraspParams
-from calculators.schemas import Rig
 from rig_strategies import (
     MM_PER_INCH,
     assert_batch_equals_single_rigs,
@@ -24,6 +20,10 @@ from rig_strategies import (
     rigs,
     sweeps,
 )
+
+from calculators.batch import RigBatch
+from calculators.builtin.light_grasp import LightGrasp, LightGraspParams
+from calculators.schemas import Rig
 
 CALC = LightGrasp()
 CAMERA = {"pixel_size_um": 3.76, "width_px": 6248, "height_px": 4176}

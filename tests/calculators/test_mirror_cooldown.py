@@ -1,14 +1,15 @@
-"""Tests of calculators/mirror_cooldown.py, checked against a finite-difference heat equation."""
+"""Tests of calculators/builtin/mirror_cooldown.py, checked against a finite-difference heat equation."""
 
 import math
 
 import astropy.constants as const
 import numpy as np
 import pytest
+from example_rigs import assert_sweep_equals_rows, cameras, demo_rigs, modifiers, outputs, telescopes
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from calculators.mirror_cooldown import (
+from calculators.builtin.mirror_cooldown import (
     GLASSES,
     STEFAN_BOLTZMANN,
     MirrorCooldown,
@@ -18,7 +19,6 @@ from calculators.mirror_cooldown import (
     radiative_conductance_w_m2k,
 )
 from calculators.schemas import Camera, Rig, Telescope
-from example_rigs import assert_sweep_equals_rows, cameras, demo_rigs, modifiers, outputs, telescopes
 
 CALC = MirrorCooldown()
 

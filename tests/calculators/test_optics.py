@@ -1,4 +1,4 @@
-"""Tests of calculators/optics.py: shared optical relations, against astropy.units."""
+"""Tests of calculators/builtin/optics.py: shared optical relations, against astropy.units."""
 
 import astropy.units as u
 import numpy as np
@@ -6,7 +6,7 @@ import pytest
 from hypothesis import given
 from hypothesis import strategies as st
 
-from calculators.optics import ARCSEC_PER_RAD, field_angle_arcmin, pixel_scale_arcsec
+from calculators.builtin.optics import ARCSEC_PER_RAD, field_angle_arcmin, pixel_scale_arcsec
 
 
 def test_pixel_scale_of_38_um_at_1200_mm():

@@ -1,4 +1,4 @@
-"""Tests of calculators/payload.py: payload, capacity, wind force, tube inertia, moments on the RA axis."""
+"""Tests of calculators/builtin/payload.py: payload, capacity, wind force, tube inertia, moments on the RA axis."""
 
 from __future__ import annotations
 
@@ -10,17 +10,6 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 from pydantic import ValidationError
-
-from calculators.batch import RigBatch
-from calculators.payload import (
-    ISA_SEA_LEVEL_DENSITY,
-    STANDARD_GRAVITY,
-    Payload,
-    PayloadParams,
-    thin_tube_inertia_kg_m2,
-)
-from calculators.schemas import Rig
-from calculators.units import unit_registry
 from rig_strategies import (
     assert_batch_equals_single_rigs,
     assert_outputs_equal,
@@ -32,6 +21,17 @@ from rig_strategies import (
     rigs,
     sweeps,
 )
+
+from calculators.batch import RigBatch
+from calculators.builtin.payload import (
+    ISA_SEA_LEVEL_DENSITY,
+    STANDARD_GRAVITY,
+    Payload,
+    PayloadParams,
+    thin_tube_inertia_kg_m2,
+)
+from calculators.schemas import Rig
+from calculators.units import unit_registry
 
 CALC = Payload()
 OUTPUTS = [o.name for o in CALC.outputs]

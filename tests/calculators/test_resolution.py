@@ -1,20 +1,26 @@
-"""Tests of calculators/resolution.py: Dawes, Rayleigh, Airy disc, seeing or diffraction limited."""
+"""Tests of calculators/builtin/resolution.py: Dawes, Rayleigh, Airy disc, seeing or diffraction limited."""
 
 import math
 
 import astropy.units as u
 import numpy as np
 import pytest
+from example_rigs import (
+    assert_sweep_equals_rows,
+    camera_376,
+    cameras,
+    modifiers,
+    newtonian_200_f5,
+    outputs,
+    refractor_80_f6,
+    telescopes,
+)
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from calculators.optics import ARCSEC_PER_RAD, BESSEL_J1_FIRST_ZERO, RAYLEIGH_FACTOR
-from calculators.resolution import Resolution, ResolutionParams
+from calculators.builtin.optics import ARCSEC_PER_RAD, BESSEL_J1_FIRST_ZERO, RAYLEIGH_FACTOR
+from calculators.builtin.resolution import Resolution, ResolutionParams
 from calculators.schemas import Camera, Modifier, Rig, Telescope
-from example_rigs import (
-    assert_sweep_equals_rows, camera_376, cameras, modifiers, newtonian_200_f5, outputs,
-    refractor_80_f6, telescopes,
-)
 
 CALC = Resolution()
 
@@ -148,8 +154,9 @@ def test_demo_rigs_compute_with_default_params():
 
 
 def test_runs_through_compare_with_default_params():
-    from plugins.compare import compare
     from example_rigs import demo_rigs
+
+    from plugins.compare import compare
 
     result = compare(demo_rigs()[:2], calculators=["resolution"])
     outcome = result.results["resolution"]

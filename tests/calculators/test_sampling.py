@@ -1,4 +1,4 @@
-"""Tests of calculators/sampling.py: pixel scale, field of view, pixels per FWHM, verdict, binning."""
+"""Tests of calculators/builtin/sampling.py: pixel scale, field of view, pixels per FWHM, verdict, binning."""
 
 from __future__ import annotations
 
@@ -10,10 +10,6 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 from pydantic import ValidationError
-
-from calculators.batch import RigBatch
-from calculators.sampling import ARCMIN_PER_RAD, ARCSEC_PER_RAD, Sampling, SamplingParams
-from calculators.schemas import Camera, Rig, Telescope
 from rig_strategies import (
     assert_batch_equals_single_rigs,
     assert_outputs_equal,
@@ -25,6 +21,10 @@ from rig_strategies import (
     rigs,
     sweeps,
 )
+
+from calculators.batch import RigBatch
+from calculators.builtin.sampling import ARCMIN_PER_RAD, ARCSEC_PER_RAD, Sampling, SamplingParams
+from calculators.schemas import Camera, Rig, Telescope
 
 CALC = Sampling()
 

@@ -1,15 +1,10 @@
-"""Tests of calculators/speed.py: effective focal ratio and the two relative exposure times."""
+"""Tests of calculators/builtin/speed.py: effective focal ratio and the two relative exposure times."""
 
 from __future__ import annotations
 
 import pytest
 from hypothesis import assume, given, settings
 from hypothesis import strategies as st
-
-from calculators.base import NoParams
-from calculators.batch import RigBatch
-from calculators.schemas import Rig
-from calculators.speed import Speed
 from rig_strategies import (
     assert_batch_equals_single_rigs,
     assert_outputs_equal,
@@ -21,6 +16,11 @@ from rig_strategies import (
     rigs,
     sweeps,
 )
+
+from calculators.base import NoParams
+from calculators.batch import RigBatch
+from calculators.builtin.speed import Speed
+from calculators.schemas import Rig
 
 CALC = Speed()
 TIME_FACTORS = ("time_factor_per_pixel", "time_factor_per_arcsec2")
@@ -161,7 +161,7 @@ def test_a_central_obstruction_costs_its_share_of_the_area():
 
 
 def test_the_docstring_says_why_both_time_factors_are_given():
-    import calculators.speed as module
+    import calculators.builtin.speed as module
 
     assert "Why two time factors" in module.__doc__
     assert "disagree" in module.__doc__

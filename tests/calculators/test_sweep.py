@@ -17,9 +17,9 @@ from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 from sweep_stand_ins import STAND_INS, Broken, Misshapen
 
+from calculators.builtin.light_grasp import LightGrasp
 from calculators.errors import CalculationError, RigbenchError
 from calculators.evaluation_schemas import EvaluationResult, InlineEvaluationRequest
-from calculators.light_grasp import LightGrasp
 from calculators.schemas import Camera, Modifier, Mount, Price, Rig, Telescope
 from calculators.sweep import (
     CalculatorFailed,

@@ -1,18 +1,18 @@
-"""Tests of calculators/target_fit.py and calculators/catalogue.py (OpenNGC through pyongc)."""
+"""Tests of calculators/builtin/target_fit.py and calculators/builtin/catalogue.py (OpenNGC through pyongc)."""
 
 import math
 
 import astropy.units as u
 import numpy as np
 import pytest
+from example_rigs import assert_sweep_equals_rows, cameras, demo_rigs, modifiers, outputs, telescopes
 from hypothesis import given, settings
 from hypothesis import strategies as st
 from pydantic import ValidationError
 from pyongc import ongc
 
+from calculators.builtin.target_fit import DEFAULT_TARGET, TargetFit, TargetFitParams, panels_along
 from calculators.schemas import Camera, Modifier, Rig, Telescope
-from calculators.target_fit import DEFAULT_TARGET, TargetFit, TargetFitParams, panels_along
-from example_rigs import assert_sweep_equals_rows, cameras, demo_rigs, modifiers, outputs, telescopes
 from plugins.compare import compare
 from plugins.runner import InvalidParams
 
@@ -51,7 +51,7 @@ def test_malformed_names_are_refused_before_the_catalogue(text):
 
 
 def test_default_target_is_named_in_the_docstring():
-    import calculators.target_fit as module
+    import calculators.builtin.target_fit as module
 
     assert f'**default "{DEFAULT_TARGET}"**' in module.__doc__
     assert TargetFitParams().target == DEFAULT_TARGET

@@ -23,7 +23,9 @@ from pathlib import Path
 
 import pytest
 import schemathesis
+from fastapi.testclient import TestClient
 from hypothesis import HealthCheck, settings
+from rigbench_testing import BODIES, INLINE_RIG
 from schemathesis.checks import not_a_server_error
 from schemathesis.config import SchemathesisConfig
 from schemathesis.specs.openapi.checks import (
@@ -32,15 +34,12 @@ from schemathesis.specs.openapi.checks import (
     response_schema_conformance,
     status_code_conformance,
 )
-
-from fastapi.testclient import TestClient
 from sqlmodel import Session
 
-from api import db
-from api.accounts import create_account
+from api.accounts.keys import create_account
 from api.app import create_app
 from api.openapi import render
-from rigbench_testing import BODIES, INLINE_RIG
+from api.storage import db
 
 COMMITTED = Path(__file__).resolve().parents[2] / "openapi" / "openapi.json"
 EXAMPLES = int(os.environ.get("RIGBENCH_FUZZ_EXAMPLES", "25"))

@@ -40,7 +40,7 @@ def builtin(name: str, target: str) -> EntryPoint:
     return entry_point(name, target, dist="rigbench", version="0.1.0")
 
 
-LIGHT_GRASP = ("light_grasp", "calculators.light_grasp:LightGrasp")
+LIGHT_GRASP = ("light_grasp", "calculators.builtin.light_grasp:LightGrasp")
 
 
 # --- a calculator that meets the contract ---------------------------------------------------------

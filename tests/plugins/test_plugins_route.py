@@ -1,4 +1,4 @@
-"""Tests of api/routes/plugins.py: ``GET /v1/plugins`` lists distributions, calculators and statuses.
+"""Tests of api/discovery/plugins.py: ``GET /v1/plugins`` lists distributions, calculators and statuses.
 
 The router is mounted on a bare FastAPI app whose ``state.registry`` comes from injected entry points,
 so the listing does not depend on what is installed. The last test runs against the real app when
@@ -13,9 +13,9 @@ import importlib.util
 import pytest
 from fastapi import FastAPI
 from fastapi.testclient import TestClient
-
-from api.routes import plugins as plugins_route
 from plugin_fakes import LIGHT_GRASP, builtin, entry_point
+
+from api.discovery import plugins as plugins_route
 from plugins.registry import load_registry
 
 EPS = [
@@ -43,7 +43,7 @@ def test_lists_every_distribution_with_its_calculators_status_and_reason(client)
     assert response.status_code == 200
     assert response.json() == {"items": [
         {"distribution": "rigbench", "version": "0.1.0", "builtin": True, "status": "failed", "calculators": [
-            {"name": "light_grasp", "entry_point": "calculators.light_grasp:LightGrasp", "status": "loaded",
+            {"name": "light_grasp", "entry_point": "calculators.builtin.light_grasp:LightGrasp", "status": "loaded",
              "reason": None},
             {"name": "speed", "entry_point": "calculators.not_written_yet:Speed", "status": "failed",
              "reason": "could not be loaded: ModuleNotFoundError: No module named 'calculators.not_written_yet'"},
@@ -84,9 +84,9 @@ def test_the_listing_is_documented_with_its_response_model(client):
 
 @pytest.mark.skipif(importlib.util.find_spec("api.app") is None, reason="api.app (the service) is not on this branch")
 def test_the_real_app_lists_a_broken_plugin_as_failed_while_comparisons_still_work(tmp_path):
-    from api import db
     from api.app import create_app
     from api.settings import Settings
+    from api.storage import db
 
     app = create_app(Settings(database_url=f"sqlite:///{tmp_path / 'rigbench.db'}", data_dir=tmp_path / "data"))
     db.upgrade(app.state.engine)
@@ -125,9 +125,9 @@ def _dew_installed() -> bool:
     reason="the example plugin is not installed here; CI installs it with: pip install ./plugins/examples/rigbench-dew",
 )
 def test_the_installed_example_plugin_is_listed_and_computes_through_the_api(tmp_path):
-    from api import db
     from api.app import create_app
     from api.settings import Settings
+    from api.storage import db
 
     app = create_app(Settings(database_url=f"sqlite:///{tmp_path / 'rigbench.db'}", data_dir=tmp_path / "data"))
     db.upgrade(app.state.engine)

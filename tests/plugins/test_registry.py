@@ -10,9 +10,9 @@ import itertools
 import logging
 
 import pytest
-
-from calculators.light_grasp import LightGrasp
 from plugin_fakes import GOOD_INSTANCE, LIGHT_GRASP, Good, builtin, entry_point
+
+from calculators.builtin.light_grasp import LightGrasp
 from plugins.registry import (
     BUILTIN_DISTRIBUTION,
     ContractError,

@@ -25,8 +25,8 @@ from sqlalchemy import create_engine, text
 from sqlalchemy.engine import make_url
 from sqlmodel import Session
 
-from api import db
-from api.accounts import create_account
+from api.accounts.keys import create_account
+from api.storage import db
 
 ROOT = Path(__file__).resolve().parents[2]
 POSTGRES_URL = os.environ.get("RIGBENCH_TEST_POSTGRES_URL", "")

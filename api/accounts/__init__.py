@@ -1,0 +1,1 @@
+"""Accounts and hashed API keys: the store, the routes and the `rigbench accounts` commands."""

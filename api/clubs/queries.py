@@ -1,0 +1,124 @@
+"""A club's public face: its profile, its public equipment and rigs, and a ready comparison of its rigs.
+
+Everything here reads only what anyone may read (club accounts and public items), so the JSON views,
+the CSV views and the HTML page all show the same thing to every visitor, key or no key.
+"""
+
+from __future__ import annotations
+
+import re
+from typing import Any
+
+from sqlalchemy import func
+from sqlmodel import Session, select
+
+from api.clubs.schemas import ClubComparison, ClubEquipment, ClubPublic
+from api.equipment import rules as resources
+from api.http.problems import ApiProblem, FieldError
+from api.schemas import HANDLE_PATTERN
+from api.storage.models import Account, AccountKind, RigRow, Visibility
+from api.storage.store import aware, list_items
+from calculators.builtin.catalogue import UnknownObject, lookup
+from plugins.compare import compare
+from plugins.registry import Registry
+
+#: The kinds of equipment, as (URL segment, resource) in the order a page shows them.
+EQUIPMENT = (
+    ("telescopes", resources.TELESCOPES),
+    ("modifiers", resources.MODIFIERS),
+    ("cameras", resources.CAMERAS),
+    ("mounts", resources.MOUNTS),
+)
+
+
+def invalid(field: str, message: str) -> ApiProblem:
+    return ApiProblem(422, f"{field}: {message}", title="Invalid input", type="/problems/invalid-input",
+                      errors=[FieldError(field=field, message=message)])
+
+
+def profile(account: Account) -> ClubPublic:
+    return ClubPublic(
+        name=account.name, kind=account.kind, display_name=account.display_name, location=account.location,
+        contact_url=account.contact_url, created_at=aware(account.created_at),
+    )
+
+
+def list_clubs(session: Session, limit: int, offset: int) -> tuple[list[ClubPublic], int]:
+    is_club = Account.kind == AccountKind.club.value
+    total = session.exec(select(func.count()).select_from(Account).where(is_club)).one()
+    rows = session.exec(select(Account).where(is_club).order_by(Account.name).limit(limit).offset(offset)).all()
+    return [profile(row) for row in rows], int(total)
+
+
+def find_club(session: Session, name: str) -> Account:
+    """The club account with this handle; 404 for anything else (a person's handle included)."""
+    account = None
+    if re.fullmatch(HANDLE_PATTERN, name):
+        account = session.exec(
+            select(Account).where(Account.name == name, Account.kind == AccountKind.club.value)
+        ).first()
+    if account is None:
+        raise ApiProblem(404, f"no club named {name[:60]!r}")
+    return account
+
+
+def _public(session: Session, table: Any, club: Account, limit: int, offset: int = 0):
+    return list_items(session, table, None, owner=club.name, visibility=Visibility.public,
+                      limit=limit, offset=offset)
+
+
+def equipment(session: Session, club: Account, limit: int) -> ClubEquipment:
+    """Up to ``limit`` public items of each kind, oldest first."""
+    lists: dict[str, list[Any]] = {}
+    complete = True
+    for path, resource in EQUIPMENT:
+        rows, total = _public(session, resource.table, club, limit)
+        lists[path] = resource.present(session, rows)
+        complete = complete and total <= len(rows)
+    return ClubEquipment(club=club.name, complete=complete, **lists)
+
+
+def rigs(session: Session, club: Account, limit: int, offset: int) -> tuple[list[Any], int]:
+    """One page of the club's public rigs (``RigPublic``), oldest first, and how many there are."""
+    rows, total = _public(session, RigRow, club, limit, offset)
+    return resources.RIGS.present(session, rows), total
+
+
+def check_target(target: str) -> str:
+    """The designation as given, once OpenNGC knows it; 422 naming ``target`` with close matches."""
+    try:
+        lookup(target)
+    except UnknownObject as exc:
+        raise invalid("target", str(exc)) from None
+    return target.strip()
+
+
+def comparison(
+    session: Session, registry: Registry, club: Account, *, baseline_id: int | None, target: str,
+    max_rigs: int,
+) -> ClubComparison:
+    """Every loaded calculator over the club's first ``max_rigs`` public rigs.
+
+    ``baseline_id`` picks the rig the relative figures refer to (default: the oldest); ``target`` is
+    the deep-sky object that ``target_fit`` (when loaded) places in each field.
+    """
+    target = check_target(target)
+    listed, total = rigs(session, club, max_rigs, 0)
+    ids = [rig.id for rig in listed]
+    if baseline_id is not None and baseline_id not in ids:
+        raise invalid("baseline", f"rig {baseline_id} is not one of {club.name!r}'s public rigs "
+                                  f"(they are {', '.join(map(str, ids)) or 'none'})")
+    if not listed:
+        return ClubComparison(rigs=[], baseline=0, results={}, club=club.name, baseline_rig_id=None,
+                              target=target, rigs_total=total)
+    baseline = ids.index(baseline_id) if baseline_id is not None else 0
+    names = list(registry.calculators)
+    params = {"target_fit": {"target": target}} if "target_fit" in names else {}
+    result = compare(
+        [rig.resolved for rig in listed], names, baseline, params,
+        registry=registry, ids=ids,
+    )
+    return ClubComparison(
+        **result.model_dump(), club=club.name, baseline_rig_id=ids[baseline], target=target, rigs_total=total,
+    )
+

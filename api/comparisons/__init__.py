@@ -1,0 +1,1 @@
+"""Comparisons: resolving stored rigs, the route, and the CSV table."""

@@ -1,0 +1,97 @@
+"""Turning a comparison request into calculator input: stored rigs and component ids resolved, the
+request's calculator names, baseline and params checked so each error names its field."""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+
+from sqlalchemy import Engine
+from sqlmodel import Session, select
+
+from api import schemas
+from api.accounts.keys import Principal
+from api.equipment.rules import SlotRequest, body_slots, full_rig, resolve_slots, stored_rig_specs
+from api.http.problems import ApiProblem, FieldError
+from api.storage.models import RigRow
+from api.storage.store import readable_by
+from calculators.schemas import Rig
+from plugins.registry import Registry
+
+
+def invalid(errors: Sequence[FieldError]) -> ApiProblem:
+    return ApiProblem(
+        422, "; ".join(f"{e.field}: {e.message}" for e in errors[:5]),
+        title="Invalid comparison", type="/problems/invalid-comparison", errors=errors,
+    )
+
+
+def check_request(body: schemas.ComparisonRequest, registry: Registry, max_rigs: int) -> list[str]:
+    """The calculator names to run; 422 naming the field for anything compare() would refuse."""
+    errors: list[FieldError] = []
+    if len(body.rigs) > max_rigs:
+        errors.append(FieldError(field="rigs", message=f"at most {max_rigs} rigs per comparison, got {len(body.rigs)}"))
+    if body.baseline >= len(body.rigs):
+        errors.append(FieldError(
+            field="baseline", message=f"{body.baseline} is not an index into the {len(body.rigs)} rig(s)"
+        ))
+    available = registry.calculators
+    names = list(dict.fromkeys(body.calculators)) if body.calculators is not None else list(available)
+    if body.calculators is not None and not body.calculators:
+        errors.append(FieldError(field="calculators", message="name at least one calculator, or leave it out"))
+    for i, name in enumerate(body.calculators or ()):
+        if name not in available:
+            errors.append(FieldError(
+                field=f"calculators.{i}", message=f"no calculator named {name!r}; available: {', '.join(available)}"
+            ))
+    for name in body.params:
+        if name not in names:
+            errors.append(FieldError(field=f"params.{name}", message=f"{name!r} is not among the calculators run"))
+    if errors:
+        raise invalid(errors)
+    return names
+
+
+def needs_database(body: schemas.ComparisonRequest) -> bool:
+    for entry in body.rigs:
+        if isinstance(entry, schemas.Ref):
+            return True
+        if any(isinstance(v, schemas.Ref) for v in body_slots(entry).values()):
+            return True
+    return False
+
+
+def inline_rigs(body: schemas.ComparisonRequest) -> list[Rig]:
+    """Rigs given whole in the request (no database)."""
+    return [full_rig(entry, body_slots(entry), ("rigs", i)) for i, entry in enumerate(body.rigs)]
+
+
+def resolve_rigs(
+    engine: Engine, principal: Principal | None, body: schemas.ComparisonRequest
+) -> tuple[list[Rig], list[int | None]]:
+    """Rigs and their stored ids, reading only what the caller may read (one query per table)."""
+    with Session(engine) as session:
+        wanted = {e.id for e in body.rigs if isinstance(e, schemas.Ref)}
+        stored = {}
+        if wanted:
+            rows = session.exec(select(RigRow).where(RigRow.id.in_(wanted), readable_by(RigRow, principal))).all()
+            stored = {row.id: (row, spec) for row, spec in zip(rows, stored_rig_specs(session, rows))}
+        errors = [
+            FieldError(field=f"rigs.{i}.id", message=f"no rig with id {e.id} that you can read")
+            for i, e in enumerate(body.rigs)
+            if isinstance(e, schemas.Ref) and e.id not in stored
+        ]
+        if errors:
+            raise invalid(errors)
+        inline = [(i, e) for i, e in enumerate(body.rigs) if not isinstance(e, schemas.Ref)]
+        slots = resolve_slots(
+            session, principal, [SlotRequest(body_slots(e), loc=("rigs", i)) for i, e in inline]
+        )
+    rigs: list[Rig | None] = [None] * len(body.rigs)
+    ids: list[int | None] = [None] * len(body.rigs)
+    for (i, entry), resolved in zip(inline, slots):
+        rigs[i] = full_rig(entry, resolved, ("rigs", i))
+    for i, entry in enumerate(body.rigs):
+        if isinstance(entry, schemas.Ref):
+            rigs[i] = Rig.model_validate(stored[entry.id][1])
+            ids[i] = entry.id
+    return rigs, ids

@@ -1,0 +1,61 @@
+"""`POST /v1/comparisons`: run calculators over inline or stored rigs; JSON or CSV.
+
+An ``async def`` route: an inline comparison touches neither the database nor the threadpool; stored
+ids are read in the threadpool, and large batches are computed there so the event loop stays free.
+"""
+
+from fastapi import APIRouter, Request
+from starlette.concurrency import run_in_threadpool
+from starlette.responses import Response
+
+from api.comparisons.csv_table import comparison_csv
+from api.comparisons.resolve import check_request, inline_rigs, needs_database, resolve_rigs
+from api.deps import Caller
+from api.http import problems
+from api.http.negotiation import prefers_csv
+from api.schemas import ComparisonRequest
+from plugins.compare import compare
+from plugins.results import Comparison
+
+router = APIRouter(prefix="/v1/comparisons", tags=["comparisons"])
+
+# Above this many rigs the computation moves off the event loop.
+THREADPOOL_RIGS = 64
+
+CSV_RESPONSE = {
+    200: {
+        "description": "The comparison; with `Accept: text/csv`, a table with one row per rig and one "
+        "column per calculator output, the unit in each header.",
+        "content": {"text/csv": {"schema": {"type": "string"}}},
+    }
+}
+
+
+@router.post(
+    "", response_model=Comparison, operation_id="compare_rigs", summary="Compare rigs",
+    responses={**CSV_RESPONSE, **problems.responses(400, 401, 413, 415, 422)},
+)
+async def create_comparison(body: ComparisonRequest, request: Request, caller: Caller) -> Comparison | Response:
+    # app.state is read directly: each extra dependency costs measurable time on this hot route.
+    state = request.app.state
+    registry, settings, engine = state.registry, state.settings, state.engine
+    names = check_request(body, registry, settings.max_rigs_per_comparison)
+    if needs_database(body):
+        rigs, ids = await run_in_threadpool(resolve_rigs, engine, caller, body)
+    else:
+        rigs, ids = inline_rigs(body), None
+    args = (rigs, names, body.baseline, body.params)
+    kwargs = {"registry": registry, "ids": ids}
+    # A third-party calculator may wait out its time budget in a worker thread: never on the loop.
+    if len(rigs) > THREADPOOL_RIGS or registry.runs_third_party(names):
+        result = await run_in_threadpool(compare, *args, **kwargs)
+    else:
+        result = compare(*args, **kwargs)
+    if prefers_csv(request.headers.get("accept")):
+        return Response(
+            comparison_csv(result), media_type="text/csv; charset=utf-8",
+            headers={"Content-Disposition": 'inline; filename="comparison.csv"'},
+        )
+    # Serialised here rather than by FastAPI, which would validate the result against the
+    # response model once more; the OpenAPI document still takes the shape from response_model.
+    return Response(result.model_dump_json(), media_type="application/json")

@@ -1,0 +1,1 @@
+"""What the registry discovered: the calculator and plugin listings."""

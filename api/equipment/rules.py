@@ -1,0 +1,274 @@
+"""The stored resources (four kinds of equipment and rigs) and the rules that tie rigs to equipment.
+
+Rules, enforced here and documented in README:
+
+* a rig slot may reference only equipment its owner can read (their own, or someone's public item);
+* a public rig may reference only public equipment, so a public rig never shows a private item;
+* equipment a rig references cannot be deleted (409 naming the rigs); the database's foreign keys
+  refuse it too, should two requests race;
+* equipment that rigs of other accounts or public rigs use cannot be made private (409), and a change
+  that would make a rig using it invalid (e.g. a focal ratio below the physical minimum with that
+  rig's reducer) is refused (409 naming the rigs).
+"""
+
+from __future__ import annotations
+
+from collections.abc import Callable, Sequence
+from dataclasses import dataclass, field
+from typing import Any
+
+from pydantic import BaseModel, ValidationError
+from sqlmodel import Session, select
+
+from api import schemas
+from api.accounts.keys import Principal
+from api.http.problems import ApiProblem, FieldError, from_validation_error
+from api.storage.models import CameraRow, ModifierRow, MountRow, RigRow, StoredItem, TelescopeRow, Visibility
+from api.storage.store import aware, fetch_by_ids, readable_by
+from calculators.schemas import Rig
+
+SLOT_TABLES: dict[str, type[StoredItem]] = {
+    "telescope": TelescopeRow,
+    "modifier": ModifierRow,
+    "camera": CameraRow,
+    "mount": MountRow,
+}
+
+
+def meta(row: StoredItem, owner: str) -> dict[str, Any]:
+    return {
+        "id": row.id, "owner": owner, "visibility": row.visibility, "version": row.version,
+        "created_at": aware(row.created_at), "updated_at": aware(row.updated_at),
+    }
+
+
+@dataclass(frozen=True)
+class Resource:
+    """Everything the generic CRUD router needs to serve one kind of stored item."""
+
+    path: str  # URL segment, e.g. "telescopes"
+    label: str  # one item, e.g. "telescope"
+    table: type[StoredItem]
+    create: type[BaseModel]
+    update: type[BaseModel]
+    public: type[BaseModel]
+    list: type[BaseModel]
+    # body (a validated `create` model) -> column values to store
+    prepare: Callable[[Session, Principal, BaseModel], dict[str, Any]]
+    # rows with their owner's handle -> public models
+    present: Callable[[Session, Sequence[tuple[StoredItem, str]]], list[BaseModel]]
+    before_change: Callable[[Session, Principal, StoredItem, dict[str, Any]], None] = lambda *a: None
+    before_delete: Callable[[Session, Principal, StoredItem], None] = lambda *a: None
+    tags: list[str] = field(default_factory=list)
+
+
+# --- equipment ------------------------------------------------------------------------------------
+
+def _equipment_prepare(_session: Session, _principal: Principal, body: BaseModel) -> dict[str, Any]:
+    spec = body.model_dump(mode="json", exclude={"visibility"})
+    return {"spec": spec, "name": spec.get("name"), "visibility": body.visibility.value}
+
+
+def _equipment_present(public: type[BaseModel]):
+    def present(_session: Session, rows: Sequence[tuple[StoredItem, str]]) -> list[BaseModel]:
+        return [public.model_validate({**row.spec, **meta(row, owner)}) for row, owner in rows]
+
+    return present
+
+
+def _rigs_using(session: Session, label: str, item_id: int) -> list[RigRow]:
+    column = getattr(RigRow, f"{label}_id")
+    return list(session.exec(select(RigRow).where(column == item_id).order_by(RigRow.id)).all())
+
+
+def _rig_list(rigs: Sequence[RigRow], principal: Principal) -> tuple[list[int], int]:
+    """Ids of the rigs the caller may see, and how many others there are."""
+    shown = [r.id for r in rigs if r.visibility == Visibility.public.value or r.owner_id == principal.account.id]
+    return shown, len(rigs) - len(shown)
+
+
+def _used_by(label: str, item_id: int, rigs: Sequence[RigRow], principal: Principal, what: str) -> ApiProblem:
+    shown, hidden = _rig_list(rigs, principal)
+    names = ", ".join(map(str, shown)) or "none you can see"
+    more = f" and {hidden} private rig(s) of other accounts" if hidden else ""
+    return ApiProblem(
+        409, f"{label} {item_id} is used by rig(s) {names}{more}; {what}",
+        title="Equipment in use", type="/problems/equipment-in-use", rigs=shown, hidden_rigs=hidden,
+    )
+
+
+def _equipment_hooks(label: str):
+    def before_change(session: Session, principal: Principal, row: StoredItem, values: dict[str, Any]) -> None:
+        rigs = _rigs_using(session, label, row.id)
+        if not rigs:
+            return
+        if values["visibility"] == Visibility.private.value:
+            exposed = [r for r in rigs if r.visibility == Visibility.public.value or r.owner_id != row.owner_id]
+            if exposed:
+                raise _used_by(
+                    label, row.id, exposed, principal,
+                    "public rigs and other accounts' rigs need it to stay public",
+                )
+        if values["spec"] != row.spec:
+            broken = []
+            specs = stored_rig_specs(session, rigs, override={(label, row.id): values["spec"]})
+            for rig, spec in zip(rigs, specs):
+                try:
+                    Rig.model_validate(spec)
+                except ValidationError:
+                    broken.append(rig)
+            if broken:
+                raise _used_by(label, row.id, broken, principal, "the change would make them invalid")
+
+    def before_delete(session: Session, principal: Principal, row: StoredItem) -> None:
+        rigs = _rigs_using(session, label, row.id)
+        if rigs:
+            raise _used_by(label, row.id, rigs, principal, "change or delete those rigs first")
+
+    return before_change, before_delete
+
+
+def _equipment(path: str, label: str, table: type[StoredItem], bodies: schemas.EquipmentSchemas) -> Resource:
+    before_change, before_delete = _equipment_hooks(label)
+    return Resource(
+        path=path, label=label, table=table, create=bodies.create, update=bodies.update,
+        public=bodies.public, list=bodies.list, prepare=_equipment_prepare,
+        present=_equipment_present(bodies.public), before_change=before_change,
+        before_delete=before_delete, tags=["equipment"],
+    )
+
+
+TELESCOPES = _equipment("telescopes", "telescope", TelescopeRow, schemas.TELESCOPE)
+CAMERAS = _equipment("cameras", "camera", CameraRow, schemas.CAMERA)
+MODIFIERS = _equipment("modifiers", "modifier", ModifierRow, schemas.MODIFIER)
+MOUNTS = _equipment("mounts", "mount", MountRow, schemas.MOUNT)
+
+
+# --- rigs -----------------------------------------------------------------------------------------
+
+@dataclass
+class SlotRequest:
+    """One rig's slots to resolve for a caller: ``loc`` prefixes error paths (e.g. ("rigs", 3))."""
+
+    slots: dict[str, Any]  # slot -> Ref | inline model | None
+    loc: tuple[Any, ...] = ()
+    public_only: bool = False
+    # False when ``loc`` already names the item (a list entry such as ("telescopes", 3)), so
+    # errors read "telescopes.3.id" rather than "telescopes.3.telescope.id".
+    slot_in_path: bool = True
+
+
+def resolve_slots(session: Session, principal: Principal | None, requests: Sequence[SlotRequest]) -> list[dict]:
+    """Replace ``{"id": N}`` slots by the stored specs the caller may read; 422 naming each bad one.
+
+    One query per kind of equipment, however many rigs are given.
+    """
+    wanted: dict[str, set[int]] = {slot: set() for slot in SLOT_TABLES}
+    for request in requests:
+        for slot, value in request.slots.items():
+            if isinstance(value, schemas.Ref):
+                wanted[slot].add(value.id)
+    found: dict[str, dict[int, StoredItem]] = {}
+    for slot, ids in wanted.items():
+        table = SLOT_TABLES[slot]
+        found[slot] = {} if not ids else {
+            row.id: row
+            for row in session.exec(select(table).where(table.id.in_(ids), readable_by(table, principal))).all()
+        }
+    errors: list[FieldError] = []
+    resolved = []
+    for request in requests:
+        out: dict[str, Any] = {}
+        for slot, value in request.slots.items():
+            named = (slot,) if request.slot_in_path else ()
+            where = ".".join(map(str, (*request.loc, *named, "id")))
+            if isinstance(value, schemas.Ref):
+                row = found[slot].get(value.id)
+                if row is None:
+                    errors.append(FieldError(field=where, message=f"no {slot} with id {value.id} that you can read"))
+                elif request.public_only and row.visibility != Visibility.public.value:
+                    errors.append(FieldError(
+                        field=where,
+                        message=f"{slot} {value.id} is private; a public rig may use only public equipment",
+                    ))
+                else:
+                    out[slot] = row.spec
+            elif value is None:
+                out[slot] = None
+            else:
+                out[slot] = value  # already validated: Rig reuses the instance as it is
+        resolved.append(out)
+    if errors:
+        raise ApiProblem(
+            422, "; ".join(f"{e.field}: {e.message}" for e in errors[:5]),
+            title="Invalid input", type="/problems/invalid-input", errors=errors,
+        )
+    return resolved
+
+
+def full_rig(body: BaseModel, slots: dict[str, Any], loc: tuple[Any, ...] = ()) -> Rig:
+    """The calculator's Rig from a rig body and its resolved slots; 422 naming fields if invalid."""
+    data = {
+        "name": body.name,
+        **slots,
+        "accessories": body.accessories,
+        "geometry": body.geometry,
+    }
+    try:
+        return Rig.model_validate(data)
+    except ValidationError as exc:
+        raise from_validation_error(exc, prefix=loc) from None
+
+
+def body_slots(body: BaseModel) -> dict[str, Any]:
+    return {slot: getattr(body, slot) for slot in SLOT_TABLES}
+
+
+def stored_rig_specs(
+    session: Session, rigs: Sequence[RigRow], override: dict[tuple[str, int], dict] | None = None
+) -> list[dict]:
+    """Stored rigs with their references filled in (no access check: the rules above keep them readable)."""
+    override = override or {}
+    wanted = {slot: [r.spec[slot]["id"] for r in rigs if _is_ref(r.spec.get(slot))] for slot in SLOT_TABLES}
+    rows = {slot: fetch_by_ids(session, SLOT_TABLES[slot], ids) for slot, ids in wanted.items()}
+    specs = []
+    for rig in rigs:
+        spec = dict(rig.spec)
+        for slot in SLOT_TABLES:
+            value = spec.get(slot)
+            if _is_ref(value):
+                key = (slot, value["id"])
+                spec[slot] = override[key] if key in override else rows[slot][value["id"]].spec
+        specs.append(spec)
+    return specs
+
+
+def _is_ref(value: Any) -> bool:
+    return isinstance(value, dict) and set(value) == {"id"}
+
+
+def _rig_prepare(session: Session, principal: Principal, body: BaseModel) -> dict[str, Any]:
+    public = body.visibility == Visibility.public
+    [slots] = resolve_slots(session, principal, [SlotRequest(body_slots(body), public_only=public)])
+    full_rig(body, slots)
+    spec = body.model_dump(mode="json", exclude={"visibility"})
+    refs = {
+        f"{slot}_id": (value.id if isinstance(value, schemas.Ref) else None)
+        for slot, value in body_slots(body).items()
+    }
+    return {"spec": spec, "name": body.name, "visibility": body.visibility.value, **refs}
+
+
+def _rig_present(session: Session, rows: Sequence[tuple[StoredItem, str]]) -> list[BaseModel]:
+    specs = stored_rig_specs(session, [row for row, _ in rows])
+    return [
+        schemas.RigPublic.model_validate({**row.spec, **meta(row, owner), "resolved": spec})
+        for (row, owner), spec in zip(rows, specs)
+    ]
+
+
+RIGS = Resource(
+    path="rigs", label="rig", table=RigRow, create=schemas.RigCreate, update=schemas.RigUpdate,
+    public=schemas.RigPublic, list=schemas.RigList, prepare=_rig_prepare, present=_rig_present,
+    tags=["rigs"],
+)

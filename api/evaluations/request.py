@@ -1,0 +1,122 @@
+"""Turning a purchase-evaluation request into engine input: the request body, its stored ids
+resolved (one query per kind of equipment, through :func:`api.equipment.rules.resolve_slots`), and the
+engine's refusals as problem documents naming the field.
+
+The sweep itself is :func:`calculators.sweep.evaluate_spec`; this module only feeds it.
+"""
+
+from __future__ import annotations
+
+import math
+import re
+from typing import Any
+
+from pydantic import Field, ValidationError
+from sqlalchemy import Engine
+from sqlmodel import Session
+
+from api.accounts.keys import Principal
+from api.equipment.rules import SlotRequest, resolve_slots
+from api.http.problems import ApiProblem, FieldError, field_errors, field_path, from_validation_error
+from api.schemas import Ref, slot
+from calculators.batch import AXES
+from calculators.evaluation_schemas import EvaluationSpec
+from calculators.schemas import Camera, Modifier, Mount, Telescope
+from calculators.sweep import EvaluationError, TooManyCombinations
+
+#: The request's list of each kind of component, in the engine's axis order.
+LISTS = {"telescope": "telescopes", "camera": "cameras", "modifier": "modifiers", "mount": "mounts"}
+MODELS = {"telescope": Telescope, "camera": Camera, "modifier": Modifier, "mount": Mount}
+
+#: Most rows a front may hold in an answer. Combinations with equal objective values are all on the
+#: front, so ties (one objective that depends on a single kind, identical candidates) can make it
+#: as large as the product; past this the request is refused before the rows are built.
+MAX_FRONT_ROWS = 10_000
+
+Components = tuple[list[Any], list[Any], list[Any], list[Any]]
+Ids = dict[str, list[int | None]]
+
+
+class EvaluationRequest(EvaluationSpec):
+    """Candidate equipment to sweep, and what to compute and how to choose."""
+
+    telescopes: list[slot(Telescope)] = Field(
+        min_length=1, description='Inline telescopes or {"id": N} of stored ones you may read.'
+    )
+    cameras: list[slot(Camera)] = Field(
+        min_length=1, description='Inline cameras or {"id": N} of stored ones you may read.'
+    )
+    modifiers: list[slot(Modifier) | None] = Field(
+        default_factory=lambda: [None], min_length=1,
+        description='Inline modifiers, {"id": N} of stored ones, or null for "no modifier"; '
+        "default: none.",
+    )
+    mounts: list[slot(Mount) | None] = Field(
+        default_factory=lambda: [None], min_length=1,
+        description='Inline mounts, {"id": N} of stored ones, or null for "no mount"; default: none.',
+    )
+
+
+def sizes(body: EvaluationRequest) -> tuple[int, ...]:
+    return tuple(len(getattr(body, LISTS[kind])) for kind in AXES)
+
+
+def check_size(body: EvaluationRequest, maximum: int) -> None:
+    """Refuse a product above the maximum before reading anything from the database."""
+    counts = sizes(body)
+    total = math.prod(counts)
+    if total > maximum:
+        raise as_problem(TooManyCombinations(
+            f"{' × '.join(map(str, counts))} = {total:,} combinations exceed the maximum of "
+            f"{maximum:,}; shorten a list of candidates",
+        ), counts)
+
+
+def needs_database(body: EvaluationRequest) -> bool:
+    return any(isinstance(v, Ref) for kind in AXES for v in getattr(body, LISTS[kind]))
+
+
+def inline_components(body: EvaluationRequest) -> Components:
+    """The component lists of a request that names no stored equipment."""
+    return tuple(list(getattr(body, LISTS[kind])) for kind in AXES)  # type: ignore[return-value]
+
+
+def resolve_components(
+    engine: Engine, principal: Principal | None, body: EvaluationRequest
+) -> tuple[Components, Ids]:
+    """The component lists with every ``{"id": N}`` replaced by the stored item, and the stored id
+    of each entry (None for inline ones). 422 naming each id the caller may not read."""
+    refs = [
+        (kind, i, value)
+        for kind in AXES
+        for i, value in enumerate(getattr(body, LISTS[kind]))
+        if isinstance(value, Ref)
+    ]
+    with Session(engine) as session:
+        specs = resolve_slots(session, principal, [
+            SlotRequest({kind: ref}, loc=(LISTS[kind], i), slot_in_path=False)
+            for kind, i, ref in refs
+        ])
+    lists = {kind: list(getattr(body, LISTS[kind])) for kind in AXES}
+    ids: Ids = {kind: [None] * len(items) for kind, items in lists.items()}
+    for (kind, i, ref), spec in zip(refs, specs):
+        try:
+            lists[kind][i] = MODELS[kind].model_validate(spec[kind])
+        except ValidationError as exc:  # a stored item written under an older schema
+            raise from_validation_error(exc, prefix=(LISTS[kind], i)) from None
+        ids[kind][i] = ref.id
+    return tuple(lists[kind] for kind in AXES), ids  # type: ignore[return-value]
+
+
+def as_problem(exc: EvaluationError, counts: tuple[int, ...]) -> ApiProblem:
+    """The engine's refusal as a problem document whose ``errors`` name the request's fields."""
+    raw = getattr(exc, "errors", None)
+    if isinstance(raw, list):  # invalid params: pydantic's errors, located in the request
+        errors = field_errors(raw)
+    elif isinstance(exc, TooManyCombinations):  # no one field: every list adds to the product
+        errors = [FieldError(field=LISTS[kind], message=f"{n} given; {exc}")
+                  for kind, n in zip(AXES, counts)]
+    else:
+        errors = [FieldError(field=field_path(exc.loc) if exc.loc else "(body)", message=str(exc))]
+    slug = re.sub(r"[^a-z0-9]+", "-", exc.title.lower()).strip("-")
+    return ApiProblem(exc.status, str(exc), title=exc.title, type=f"/problems/{slug}", errors=errors)

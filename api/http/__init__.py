@@ -1,0 +1,1 @@
+"""HTTP plumbing: problem documents, content negotiation, ETags, body and rate limits, request logs, health."""

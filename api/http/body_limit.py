@@ -1,0 +1,57 @@
+"""Request body size limit (413 as a problem document), enforced while the body streams in."""
+
+from __future__ import annotations
+
+import json
+
+from starlette.exceptions import HTTPException
+from starlette.types import ASGIApp, Message, Receive, Scope, Send
+
+from api.http.problems import MEDIA_TYPE
+
+
+class BodyTooLarge(HTTPException):
+    # An HTTPException so FastAPI's body reader lets it through (it turns other errors into a 400).
+    def __init__(self, limit: int):
+        super().__init__(413, f"the request body is larger than this server's limit of {limit} bytes")
+
+
+class BodySizeLimit:
+    """Refuse bodies over ``max_bytes``: at once from Content-Length, or as soon as the stream passes it."""
+
+    def __init__(self, app: ASGIApp, max_bytes: int):
+        self.app = app
+        self.max_bytes = max_bytes
+
+    async def __call__(self, scope: Scope, receive: Receive, send: Send) -> None:
+        if scope["type"] != "http":
+            await self.app(scope, receive, send)
+            return
+        length = dict(scope.get("headers") or ()).get(b"content-length")
+        if length is not None and (not length.isdigit() or int(length) > self.max_bytes):
+            await self._refuse(scope, send)
+            return
+        seen = 0
+
+        async def limited() -> Message:
+            nonlocal seen
+            message = await receive()
+            if message["type"] == "http.request":
+                seen += len(message.get("body", b""))
+                if seen > self.max_bytes:
+                    raise BodyTooLarge(self.max_bytes)
+            return message
+
+        await self.app(scope, limited, send)
+
+    async def _refuse(self, scope: Scope, send: Send) -> None:
+        body = json.dumps({
+            "type": "about:blank", "title": "Content Too Large", "status": 413,
+            "detail": f"the request body is larger than this server's limit of {self.max_bytes} bytes",
+            "instance": scope.get("path", ""), "errors": [],
+        }).encode()
+        await send({"type": "http.response.start", "status": 413, "headers": [
+            (b"content-type", MEDIA_TYPE.encode()), (b"content-length", str(len(body)).encode()),
+            (b"connection", b"close"),
+        ]})
+        await send({"type": "http.response.body", "body": body})

@@ -1,1 +1,0 @@
-"""One thin router module per resource; equipment and rigs share the CRUD builder in ``crud``."""

@@ -1,0 +1,1 @@
+"""The built-in calculators, one module each (plus the optics helpers and the deep-sky catalogue they share)."""
