@@ -23,7 +23,7 @@ from api.clubs import routes as clubs
 from api.comparisons import routes as comparisons
 from api.discovery import calculators
 from api.discovery import plugins as plugins_routes
-from api.equipment import cameras, modifiers, mounts, rigs, telescopes
+from api.equipment import cameras, mounts, rigs, telescopes, train_elements
 from api.evaluations import routes as evaluations
 from api.http import health, problems, request_log
 from api.http.body_limit import BodySizeLimit
@@ -49,7 +49,7 @@ near the Sun without a proper full-aperture solar filter.
 
 # Hot routes first: the router tries routes in this order.
 ROUTERS = (
-    health, comparisons, calculators, plugins_routes, accounts, telescopes, cameras, modifiers,
+    health, comparisons, calculators, plugins_routes, accounts, telescopes, cameras, train_elements,
     mounts, rigs, evaluations, clubs, club_page,
 )
 
@@ -88,6 +88,7 @@ def create_app(settings: Settings | None = None) -> FastAPI:
     problems.install(app)
     for module in ROUTERS:
         app.include_router(module.router)
+    app.include_router(train_elements.old_router)  # /v1/modifiers, deprecated: one release
     app.add_middleware(BodySizeLimit, max_bytes=settings.max_body_bytes)
     if settings.cors_origins:
         app.add_middleware(

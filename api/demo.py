@@ -31,36 +31,63 @@ CLUB_EQUIPMENT: dict[str, tuple[Resource, dict[str, Any]]] = {
     "newtonian": (resources.TELESCOPES, {
         "name": "300 mm f/4 newtonian", "design": "newtonian", "aperture_mm": 300, "focal_length_mm": 1200,
         "obstruction_mm": 100, "mass_kg": 16, "length_mm": 1150, "tube_diameter_mm": 350,
-        "spider_vanes": 4, "mirror_thickness_mm": 32, "price": _price(1600),
+        "spider_vanes": 4, "mirror_thickness_mm": 32, "image_circle_mm": 30,
+        "outward_focus_travel_mm": 60, "price": _price(1600),
     }),
     "refractor": (resources.TELESCOPES, {
         "name": "80 mm f/6 refractor", "design": "refractor", "aperture_mm": 80, "focal_length_mm": 480,
-        "mass_kg": 3.2, "length_mm": 520, "price": _price(900),
+        "mass_kg": 3.2, "length_mm": 520, "image_circle_mm": 36, "price": _price(900),
     }),
     "sct": (resources.TELESCOPES, {
         "name": "200 mm f/10 schmidt-cassegrain", "design": "schmidt-cassegrain", "aperture_mm": 200,
-        "focal_length_mm": "2000 mm", "obstruction_mm": 70, "mass_kg": 6.4, "price": _price(1500),
+        "focal_length_mm": "2000 mm", "obstruction_mm": 70, "mass_kg": 6.4, "image_circle_mm": 30,
+        "price": _price(1500),
     }),
-    "coma_corrector": (resources.MODIFIERS, {
+    "coma_corrector": (resources.TRAIN_ELEMENTS, {
         "name": "coma corrector 1.0x", "kind": "corrector", "factor": 1.0, "mass_kg": 0.4,
-        "corrected_field_mm": 44, "price": _price(250),
+        "designs": ["newtonian"], "focal_ratio_min": 3.5, "focal_ratio_max": 6, "image_circle_mm": 44,
+        "backfocus_mm": 55, "optical_length_mm": 25, "price": _price(250),
     }),
-    "reducer_080": (resources.MODIFIERS, {
+    "reducer_080": (resources.TRAIN_ELEMENTS, {
         "name": "reducer-flattener 0.8x", "kind": "reducer-flattener", "factor": 0.8, "mass_kg": 0.35,
-        "price": _price(300),
+        "designs": ["refractor"], "focal_ratio_min": 5, "focal_ratio_max": 7.5, "image_circle_mm": 40,
+        "backfocus_mm": 55, "backfocus_tolerance_mm": 1, "optical_length_mm": 30, "price": _price(300),
     }),
-    "reducer_063": (resources.MODIFIERS, {
-        "name": "focal reducer 0.63x", "kind": "reducer", "factor": 0.63, "mass_kg": 0.3, "price": _price(180),
+    "reducer_063": (resources.TRAIN_ELEMENTS, {
+        "name": "focal reducer 0.63x", "kind": "reducer", "factor": 0.63, "mass_kg": 0.3,
+        "designs": ["schmidt-cassegrain"], "focal_ratio_min": 9.5, "focal_ratio_max": 11,
+        "image_circle_mm": 26, "backfocus_mm": 105, "backfocus_tolerance_mm": 5,
+        "optical_length_mm": 20, "price": _price(180),
+    }),
+    "filter_wheel": (resources.TRAIN_ELEMENTS, {
+        "name": "filter wheel, 7 x 36 mm", "kind": "filter-wheel", "optical_length_mm": 20,
+        "image_circle_mm": 34, "mass_kg": 0.8, "price": _price(600),
+    }),
+    "ha_filter": (resources.TRAIN_ELEMENTS, {
+        "name": "hydrogen-alpha filter, 7 nm", "kind": "filter", "thickness_mm": 2, "refractive_index": 1.46,
+        "centre_nm": 656.3, "bandwidth_nm": 7, "peak_transmission": 0.9, "price": _price(250),
+    }),
+    "off_axis_guider": (resources.TRAIN_ELEMENTS, {
+        "name": "off-axis guider", "kind": "off-axis-guider", "optical_length_mm": 10,
+        "image_circle_mm": 36, "mass_kg": 0.3, "price": _price(200),
+    }),
+    "spacer_15": (resources.TRAIN_ELEMENTS, {
+        "name": "spacer 15 mm", "kind": "spacer", "optical_length_mm": 15, "mass_kg": 0.05,
+        "price": _price(20),
+    }),
+    "spacer_37": (resources.TRAIN_ELEMENTS, {
+        "name": "spacer 37.5 mm", "kind": "spacer", "optical_length_mm": 37.5, "mass_kg": 0.1,
+        "price": _price(30),
     }),
     "mono_camera": (resources.CAMERAS, {
         "name": "cooled mono camera, 3.8 um pixels", "pixel_size_um": 3.8, "width_px": 6000, "height_px": 4000,
         "quantum_efficiency": 0.8, "read_noise_e": 1.5, "dark_current_e_per_s": 0.003, "mass_kg": 0.9,
-        "price": _price(3500),
+        "flange_to_sensor_mm": 17.5, "sensor": "mono", "price": _price(3500),
     }),
     "colour_camera": (resources.CAMERAS, {
         "name": "cooled colour camera, 3.0 um pixels", "pixel_size_um": 3.0, "width_px": 5000,
         "height_px": 3400, "quantum_efficiency": 0.75, "read_noise_e": 1.8, "mass_kg": 0.7,
-        "price": _price(1900),
+        "flange_to_sensor_mm": 17.5, "sensor": "colour", "price": _price(1900),
     }),
     "heavy_mount": (resources.MOUNTS, {
         "name": "heavy german-equatorial mount, 50 kg", "type": "german-equatorial", "capacity_kg": 50,
@@ -74,22 +101,22 @@ CLUB_EQUIPMENT: dict[str, tuple[Resource, dict[str, Any]]] = {
 
 CLUB_RIGS: list[dict[str, Any]] = [
     {
-        "name": "Big newtonian imager", "telescope": "newtonian", "modifier": "coma_corrector",
+        "name": "Big newtonian imager", "telescope": "newtonian",
+        "train": ["coma_corrector", "filter_wheel", "ha_filter", "spacer_15"],
         "camera": "mono_camera", "mount": "heavy_mount",
-        "accessories": [{"name": "guide scope and camera", "mass_kg": 1.1, "price": _price(350)},
-                        {"name": "filter wheel", "mass_kg": 0.8, "price": _price(600)}],
+        "accessories": [{"name": "guide scope and camera", "mass_kg": 1.1, "price": _price(350)}],
         "geometry": {"payload_arm_mm": 320, "counterweight_kg": 24},
     },
     {
-        "name": "Wide-field travel refractor", "telescope": "refractor", "modifier": "reducer_080",
+        "name": "Wide-field travel refractor", "telescope": "refractor", "train": ["reducer_080", "spacer_37"],
         "camera": "colour_camera", "mount": "light_mount",
         "accessories": [{"name": "guide scope and camera", "mass_kg": 0.6, "price": _price(250)}],
         "geometry": {"payload_arm_mm": 180, "counterweight_kg": 5},
     },
     {
-        "name": "Reduced SCT for galaxies", "telescope": "sct", "modifier": "reducer_063",
+        "name": "Reduced SCT for galaxies", "telescope": "sct",
+        "train": ["reducer_063", "off_axis_guider", "filter_wheel"],
         "camera": "mono_camera", "mount": "heavy_mount",
-        "accessories": [{"name": "off-axis guider", "mass_kg": 0.3, "price": _price(200)}],
         "geometry": {"payload_arm_mm": 250, "counterweight_kg": 12},
     },
 ]
@@ -132,6 +159,7 @@ def seed_demo(engine: Engine) -> DemoInfo:
             for slot in schemas.RIG_SLOTS:
                 if slot in rig:
                     body[slot] = {"id": ids[rig[slot]]}
+            body["train"] = [{"id": ids[key]} for key in rig.get("train", [])]
             _store(session, club_as, resources.RIGS, body)
 
         member, member_key = create_account(

@@ -8,9 +8,19 @@ component slots each take an inline object or ``{"id": N}`` naming stored equipm
 from __future__ import annotations
 
 from datetime import datetime
-from typing import Annotated, Any
+from typing import Annotated, Any, Union
 
-from pydantic import BaseModel, ConfigDict, Discriminator, Field, Tag, create_model, field_validator
+from pydantic import (
+    BaseModel,
+    BeforeValidator,
+    ConfigDict,
+    Discriminator,
+    Field,
+    RootModel,
+    Tag,
+    create_model,
+    field_validator,
+)
 
 from api.storage.models import AccountKind, KeyScope, Visibility
 from calculators.schemas import (
@@ -23,6 +33,14 @@ from calculators.schemas import (
     Rig,
     Strict,
     Telescope,
+)
+from calculators.train_elements import (
+    ELEMENT_MODELS,
+    MAX_TRAIN_ELEMENTS,
+    TAG_PREFIX,
+    TrainElement,
+    element_tag,
+    old_modifier_fields,
 )
 
 MAX_ID = 2**63 - 1
@@ -117,9 +135,62 @@ class EquipmentSchemas:
         )
 
 
+def _element_union(models: dict[str, type[BaseModel]]) -> Any:
+    """The per-kind ``models`` as one union told apart by ``kind`` (tags dropped from error paths)."""
+    members = tuple(Annotated[m, Tag(TAG_PREFIX + kind)] for kind, m in models.items())
+    return Annotated[
+        Union[members],  # noqa: UP007  (a tuple of members needs the subscript form)
+        Discriminator(element_tag, custom_error_type="invalid_kind",
+                      custom_error_message="kind: must be one of " + ", ".join(models)),
+        BeforeValidator(old_modifier_fields),
+    ]
+
+
+class TrainElementSchemas:
+    """The role-named bodies of a stored train element: one per kind, told apart by ``kind``.
+
+    ``create`` and ``public`` are root models over the per-kind bodies (so the CRUD router can treat
+    them as one model); ``update`` takes any field of any kind, and the merged result is checked
+    against its kind.
+    """
+
+    def __init__(self) -> None:
+        per_kind = {kind.value: EquipmentSchemas(model, f"{kind.value} element")
+                    for kind, model in ELEMENT_MODELS.items()}
+        for kind, bodies in per_kind.items():
+            title = "".join(part.capitalize() for part in kind.split("-"))
+            for role in ("create", "public"):
+                model = getattr(bodies, role)
+                model.__name__ = model.__qualname__ = f"{title}Element{role.capitalize()}"
+                model.model_rebuild(force=True)
+        self.spec = TrainElement
+        self.create = type("TrainElementCreate", (RootModel[_element_union(
+            {k: b.create for k, b in per_kind.items()})],), {
+            "__module__": __name__, "__doc__": "A new train element (its fields depend on `kind`).",
+        })
+        self.public = type("TrainElementPublic", (RootModel[_element_union(
+            {k: b.public for k, b in per_kind.items()})],), {
+            "__module__": __name__, "__doc__": "A stored train element.",
+        })
+        fields: dict[str, Any] = {}
+        for bodies in per_kind.values():
+            for name, spec in _optional_fields(bodies.create).items():
+                fields.setdefault(name, spec)
+        fields["kind"] = (str | None, Field(default=None, description="The element's kind."))
+        self.update = create_model(
+            "TrainElementUpdate", __base__=Strict, **fields,
+            __doc__="Changes to a train element (JSON merge patch: null resets a field to its "
+            "default); the result must suit its kind.",
+        )
+        self.list = create_model(
+            "TrainElementList", __base__=ListMeta, items=(list[self.public], ...),
+            __doc__="One page of train elements.",
+        )
+
+
 TELESCOPE = EquipmentSchemas(Telescope, "telescope")
 CAMERA = EquipmentSchemas(Camera, "camera")
-MODIFIER = EquipmentSchemas(Modifier, "modifier")
+TRAIN_ELEMENT = TrainElementSchemas()
 MOUNT = EquipmentSchemas(Mount, "mount")
 
 
@@ -130,8 +201,19 @@ class RigSlots(Strict):
 
     name: Name
     telescope: slot(Telescope)
-    modifier: slot(Modifier) | None = None
-    camera: slot(Camera)
+    modifier: slot(Modifier) | None = Field(
+        default=None, deprecated=True,
+        description="Deprecated (read for one release): the old single optical element, stored "
+        "as a one-element `train`.",
+    )
+    train: list[slot(TrainElement)] = Field(
+        default_factory=list, max_length=MAX_TRAIN_ELEMENTS,
+        description="Elements between the telescope and the camera, telescope side first, each "
+        'inline or {"id": N} of a stored train element.',
+    )
+    camera: slot(Camera) | None = Field(
+        default=None, description="Needed unless the train ends in an eyepiece."
+    )
     mount: slot(Mount) | None = None
     accessories: list[Accessory] = Field(default_factory=list, max_length=50)
     geometry: Geometry | None = None
@@ -159,7 +241,8 @@ class RigList(ListMeta):
     items: list[RigPublic]
 
 
-RIG_SLOTS = ("telescope", "modifier", "camera", "mount")
+#: A rig's single-item slots (the train is a list of them, see api.equipment.rules).
+RIG_SLOTS = ("telescope", "camera", "mount")
 
 
 # --- accounts -------------------------------------------------------------------------------------

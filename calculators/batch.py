@@ -5,7 +5,7 @@ shapes of batch exist and calculators must not care which they get:
 
 * a **comparison batch** (:meth:`RigBatch.from_rigs`): every column has shape ``(n,)``, one row per rig;
 * a **sweep batch** (:meth:`RigBatch.from_components`): each component kind lies along its own axis
-  (telescope, camera, modifier, mount) so telescope columns have shape ``(T, 1, 1, 1)``, camera columns
+  (telescope, camera, train, mount) so telescope columns have shape ``(T, 1, 1, 1)``, camera columns
   ``(1, C, 1, 1)`` and so on. An output is then computed only over the axes it depends on, and
   broadcasting builds the cartesian product only where it is really needed.
 
@@ -16,13 +16,33 @@ telescope                   ``aperture_mm``, ``focal_length_mm``, ``obstruction_
                             ``telescope_throughput`` (given or the design default), ``design``,
                             ``telescope_mass_kg``, ``tube_length_mm``, ``tube_diameter_mm``,
                             ``spider_vanes``, ``mirror_thickness_mm``, ``telescope_price``,
-                            ``telescope_currency``
-modifier (none: neutral)    ``modifier_kind`` ("" for none), ``modifier_factor`` (1),
-                            ``modifier_throughput`` (1), ``modifier_mass_kg`` (0),
-                            ``corrected_field_mm``, ``modifier_price``, ``modifier_currency``
-camera                      ``pixel_size_um``, ``width_px``, ``height_px``, ``quantum_efficiency``,
+                            ``telescope_currency``, ``telescope_image_circle_mm``,
+                            ``outward_focus_travel_mm``
+train (empty: neutral)      ``train_factor`` (product of the factors, 1), ``train_throughput``
+                            (product over the powered elements, 1; filters are not in it),
+                            ``train_mass_kg`` (0; NaN when an element but a filter has no mass),
+                            ``train_price``, ``train_currency``, ``train_image_circle_mm``
+                            (smallest stated circle, scaled by the factors behind it),
+                            ``train_corrected_field_mm`` (the same over powered elements),
+                            ``train_focal_ratio_min`` / ``_max`` (the tightest stated range),
+                            ``train_design_mask`` (int: bit i set when the train suits design
+                            ``DESIGN_ORDER[i]``), ``train_backfocus_mm``,
+                            ``train_backfocus_tolerance_mm``, ``train_length_behind_mm``,
+                            ``train_length_mm``, ``train_focus_shift_mm``, ``train_elements``
+                            (count), ``train_kinds`` ("reducer,filter"), ``train_has_corrector``,
+                            ``train_powered``, ``train_has_eyepiece`` (booleans); the train's first
+                            filter: ``filter_centre_nm``, ``filter_bandwidth_nm``,
+                            ``filter_peak_transmission``, ``filter_thickness_mm``; its eyepiece:
+                            ``eyepiece_focal_length_mm``, ``eyepiece_apparent_field_deg``,
+                            ``eyepiece_field_stop_mm``, ``eyepiece_eye_relief_mm``
+                            (see :mod:`calculators.train_columns`). Old names, kept for one
+                            release: ``modifier_factor``, ``modifier_throughput``,
+                            ``modifier_mass_kg``, ``modifier_price``, ``modifier_currency``,
+                            ``corrected_field_mm``, ``modifier_kind`` (the first powered element's)
+camera (none: NaN, "")      ``pixel_size_um``, ``width_px``, ``height_px``, ``quantum_efficiency``,
                             ``read_noise_e``, ``dark_current_e_per_s``, ``camera_mass_kg``,
-                            ``camera_price``, ``camera_currency``
+                            ``camera_price``, ``camera_currency``, ``flange_to_sensor_mm``,
+                            ``sensor`` ("mono", "colour" or "" when not stated)
 mount (none: NaN)           ``mount_type``, ``capacity_kg``, ``mount_mass_kg``, ``mount_price``,
                             ``mount_currency``
 accessories (summed)        ``accessories_mass_kg`` (0), ``accessories_price``, ``accessories_currency``
@@ -36,15 +56,18 @@ from __future__ import annotations
 
 from collections.abc import Iterator, Mapping, Sequence
 from dataclasses import dataclass, field
+from typing import Any
 
 import numpy as np
 
 from calculators.schemas import Camera, Modifier, Mount, Price, Rig, Telescope
+from calculators.train_columns import train_columns
+from calculators.train_elements import train_element
 
 NAN = float("nan")
 
 #: Slots that carry a price column pair, in the order they are added up.
-PRICE_SLOTS = ("telescope", "modifier", "camera", "mount", "accessories")
+PRICE_SLOTS = ("telescope", "train", "camera", "mount", "accessories")
 
 #: Sweep axes, in order.
 AXES = ("telescope", "camera", "modifier", "mount")
@@ -67,14 +90,16 @@ def telescope_columns(telescopes: Sequence[Telescope]) -> dict[str, np.ndarray]:
         (
             t.aperture_mm, t.focal_length_mm, t.obstruction_mm, t.effective_throughput,
             _opt(t.mass_kg), _opt(t.length_mm), _opt(t.tube_diameter_mm), _opt(t.spider_vanes),
-            _opt(t.mirror_thickness_mm), _amount(t.price),
+            _opt(t.mirror_thickness_mm), _amount(t.price), _opt(t.image_circle_mm),
+            _opt(t.outward_focus_travel_mm),
         )
         for t in telescopes
     ]
     names = (
         "aperture_mm", "focal_length_mm", "obstruction_mm", "telescope_throughput",
         "telescope_mass_kg", "tube_length_mm", "tube_diameter_mm", "spider_vanes",
-        "mirror_thickness_mm", "telescope_price",
+        "mirror_thickness_mm", "telescope_price", "telescope_image_circle_mm",
+        "outward_focus_travel_mm",
     )
     columns = _float_columns(names, rows, len(telescopes))
     columns["design"] = np.array([t.design.value for t in telescopes], dtype=str)
@@ -82,34 +107,35 @@ def telescope_columns(telescopes: Sequence[Telescope]) -> dict[str, np.ndarray]:
     return columns
 
 
-def modifier_columns(modifiers: Sequence[Modifier | None]) -> dict[str, np.ndarray]:
-    rows = [
-        (1.0, 1.0, 0.0, NAN, NAN)
-        if m is None
-        else (m.factor, m.effective_throughput, _opt(m.mass_kg), _opt(m.corrected_field_mm),
-              _amount(m.price))
-        for m in modifiers
-    ]
-    names = ("modifier_factor", "modifier_throughput", "modifier_mass_kg", "corrected_field_mm",
-             "modifier_price")
-    columns = _float_columns(names, rows, len(modifiers))
-    columns["modifier_kind"] = np.array(["" if m is None else m.kind.value for m in modifiers], dtype=str)
-    columns["modifier_currency"] = np.array(
-        ["" if m is None else _currency(m.price) for m in modifiers], dtype="U3"
-    )
-    return columns
+def as_train(entry: Any) -> list:
+    """A sweep's train entry as a list of elements: a list (``[]`` is nothing between telescope and
+    camera), None (the same), one element, or an old :class:`Modifier` (one element)."""
+    if entry is None:
+        return []
+    if isinstance(entry, Modifier):
+        return [train_element(entry.to_element())]
+    if isinstance(entry, (list, tuple)):
+        return list(entry)
+    return [entry]
 
 
-def camera_columns(cameras: Sequence[Camera]) -> dict[str, np.ndarray]:
+def camera_columns(cameras: Sequence[Camera | None]) -> dict[str, np.ndarray]:
+    """Camera columns; a rig without a camera (visual, through an eyepiece) has NaN and ""."""
+    absent = (NAN,) * 9
     rows = [
+        absent if c is None else
         (c.pixel_size_um, c.width_px, c.height_px, _opt(c.quantum_efficiency), _opt(c.read_noise_e),
-         _opt(c.dark_current_e_per_s), _opt(c.mass_kg), _amount(c.price))
+         _opt(c.dark_current_e_per_s), _opt(c.mass_kg), _amount(c.price),
+         _opt(c.flange_to_sensor_mm))
         for c in cameras
     ]
     names = ("pixel_size_um", "width_px", "height_px", "quantum_efficiency", "read_noise_e",
-             "dark_current_e_per_s", "camera_mass_kg", "camera_price")
+             "dark_current_e_per_s", "camera_mass_kg", "camera_price", "flange_to_sensor_mm")
     columns = _float_columns(names, rows, len(cameras))
-    columns["camera_currency"] = np.array([_currency(c.price) for c in cameras], dtype="U3")
+    columns["camera_currency"] = np.array(
+        ["" if c is None else _currency(c.price) for c in cameras], dtype="U3")
+    columns["sensor"] = np.array(
+        ["" if c is None or c.sensor is None else c.sensor.value for c in cameras], dtype=str)
     return columns
 
 
@@ -224,7 +250,7 @@ class RigBatch(Mapping[str, np.ndarray]):
             raise ValueError("a batch needs at least one rig")
         columns = {
             **telescope_columns([r.telescope for r in rigs]),
-            **modifier_columns([r.modifier for r in rigs]),
+            **train_columns([r.train for r in rigs]),
             **camera_columns([r.camera for r in rigs]),
             **mount_columns([r.mount for r in rigs]),
             **rig_extra_columns(rigs),
@@ -235,21 +261,21 @@ class RigBatch(Mapping[str, np.ndarray]):
     def from_components(
         cls,
         telescopes: Sequence[Telescope],
-        cameras: Sequence[Camera],
-        modifiers: Sequence[Modifier | None] = (None,),
+        cameras: Sequence[Camera | None],
+        trains: Sequence[Any] = ((),),
         mounts: Sequence[Mount | None] = (None,),
         baseline: tuple[int, int, int, int] = (0, 0, 0, 0),
     ) -> RigBatch:
-        """A sweep batch: the cartesian product telescope × camera × modifier × mount, never built.
+        """A sweep batch: the cartesian product telescope × camera × train × mount, never built.
 
-        Each kind's columns lie along their own axis (see :data:`AXES`); rigs in a sweep carry no
-        accessories and no geometry.
+        Each kind's columns lie along their own axis (see :data:`AXES`); a train entry is a list of
+        elements (see :func:`as_train`). Rigs in a sweep carry no accessories and no geometry.
         """
         ndim = len(AXES)
         columns = {
             **_along(telescope_columns(telescopes), 0, ndim),
             **_along(camera_columns(cameras), 1, ndim),
-            **_along(modifier_columns(modifiers), 2, ndim),
+            **_along(train_columns([as_train(t) for t in trains]), 2, ndim),
             **_along(mount_columns(mounts), 3, ndim),
         }
         ones = np.ones((1,) * ndim)

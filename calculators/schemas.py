@@ -32,7 +32,7 @@ def check_focal_ratio(ratio: float) -> None:
     if ratio < MIN_FOCAL_RATIO:
         raise ValueError(
             f"gives a focal ratio of {ratio:.3g}, below the physical minimum of {MIN_FOCAL_RATIO}; "
-            "check focal_length_mm, aperture_mm and the modifier factor"
+            "check focal_length_mm, aperture_mm and the train's factors"
         )
 
 
@@ -101,6 +101,15 @@ class Telescope(Strict):
     tube_diameter_mm: PositiveMillimetres | None = None
     spider_vanes: int | None = Field(default=None, ge=0, le=16)
     mirror_thickness_mm: PositiveMillimetres | None = None
+    image_circle_mm: PositiveMillimetres | None = Field(
+        default=None, description="Diameter of the fully illuminated field at focus, if stated."
+    )
+    outward_focus_travel_mm: NonNegativeMillimetres | None = Field(
+        default=None, le=1000,
+        description="How far behind the focuser's face, racked fully in, the focus lies (designs "
+        "whose focus can run out, such as newtonians); the train and the camera's flange distance "
+        "must fit in it.",
+    )
     price: Price | None = None
 
     # Cross-field rules are field validators (fields validate in declaration order), so the
@@ -127,6 +136,8 @@ class Telescope(Strict):
 
 
 class ModifierKind(StrEnum):
+    """Kinds of the old single-element slot (deprecated: see :class:`Modifier`)."""
+
     reducer = "reducer"
     corrector = "corrector"
     flattener = "flattener"
@@ -145,6 +156,11 @@ DEFAULT_MODIFIER_THROUGHPUT: dict[ModifierKind, float] = {
 
 
 class Modifier(Strict):
+    """The old single optical element of a rig, read for one release (deprecated).
+
+    A rig's ``modifier`` becomes a one-element ``train``; :meth:`to_element` gives that element.
+    """
+
     name: Name | None = None
     kind: ModifierKind
     factor: float = Field(gt=0, le=10, description="Multiplies the telescope's focal length.")
@@ -161,6 +177,27 @@ class Modifier(Strict):
             return self.throughput
         return DEFAULT_MODIFIER_THROUGHPUT[self.kind]
 
+    def to_element(self) -> dict:
+        """The train element this modifier stands for (a reducer or barlow whose factor is on
+        the wrong side of 1 becomes a corrector, the kind that takes any factor)."""
+        return modifier_to_element(self.model_dump(exclude_none=True))
+
+
+def modifier_to_element(spec: dict) -> dict:
+    """An old modifier's spec (a dict, as stored or sent) as a train element's spec."""
+    spec = dict(spec)
+    if "corrected_field_mm" in spec:
+        spec["image_circle_mm"] = spec.pop("corrected_field_mm")
+    kind, factor = spec.get("kind"), spec.get("factor", 1.0)
+    if (kind in ("reducer", "reducer-flattener") and factor > 1) or (kind == "barlow" and factor < 1):
+        spec["kind"] = "corrector"
+    return spec
+
+
+class SensorType(StrEnum):
+    mono = "mono"
+    colour = "colour"
+
 
 class Camera(Strict):
     name: Name | None = None
@@ -172,6 +209,13 @@ class Camera(Strict):
     dark_current_e_per_s: float | None = Field(default=None, ge=0, le=1e6)
     mass_kg: NonNegativeKilograms | None = None
     price: Price | None = None
+    flange_to_sensor_mm: NonNegativeMillimetres | None = Field(
+        default=None, le=200,
+        description="Distance from the camera's front face to its sensor (in air, cover glass "
+        "included).",
+    )
+    sensor: SensorType | None = Field(default=None, description="mono or colour (a colour "
+                                      "filter array); not stated when omitted.")
 
 
 class MountType(StrEnum):
@@ -207,27 +251,11 @@ class Geometry(Strict):
     counterweight_kg: PositiveKilograms
 
 
-class Rig(Strict):
-    name: Name
-    telescope: Telescope
-    modifier: Modifier | None = None
-    camera: Camera
-    mount: Mount | None = None
-    accessories: list[Accessory] = Field(default_factory=list, max_length=50)
-    geometry: Geometry | None = None
+def __getattr__(name: str):
+    # Rig lives in calculators.rig (it needs the train's elements, which need the types above);
+    # it is still importable from here, as it always was.
+    if name == "Rig":
+        from calculators.rig import Rig
 
-    @field_validator("modifier")
-    @classmethod
-    def _effective_focal_ratio_possible(cls, value: Modifier | None, info: ValidationInfo):
-        telescope = info.data.get("telescope")
-        if value is not None and telescope is not None:
-            check_focal_ratio(telescope.focal_length_mm * value.factor / telescope.aperture_mm)
-        return value
-
-    @field_validator("accessories")
-    @classmethod
-    def _one_currency(cls, value: list[Accessory]) -> list[Accessory]:
-        currencies = {a.price.currency for a in value if a.price is not None}
-        if len(currencies) > 1:
-            raise ValueError(f"accessories of one rig must share a currency, got {sorted(currencies)}")
-        return value
+        return Rig
+    raise AttributeError(f"module {__name__!r} has no attribute {name!r}")

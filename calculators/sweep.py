@@ -600,7 +600,7 @@ def _evaluate_chunk(batch, plans, bounds, directions, nullable, start, stop) -> 
     shape = (stop - start, *batch.shape[1:])
     # A telescope and modifier giving an effective focal ratio below the physical minimum do not
     # make a rig (the Rig schema refuses it), so that combination is never feasible.
-    focal_ratio = (batch["focal_length_mm"][start:stop] * batch["modifier_factor"]
+    focal_ratio = (batch["focal_length_mm"][start:stop] * batch["train_factor"]
                    / batch["aperture_mm"][start:stop])
     masks = [focal_ratio >= MIN_FOCAL_RATIO]
     for key, (low, high) in bounds.items():

@@ -10,9 +10,11 @@ from pydantic import BaseModel
 from api.clubs.queries import EQUIPMENT
 from api.clubs.schemas import ClubEquipment, ClubPublic
 from api.comparisons.csv_table import records_csv
-from api.schemas import CAMERA, MODIFIER, MOUNT, RIG_SLOTS, TELESCOPE, Ref
+from api.schemas import CAMERA, MOUNT, RIG_SLOTS, TELESCOPE, Ref
+from calculators.train_elements import ELEMENT_MODELS
 
-SPECS = {"telescopes": TELESCOPE.spec, "modifiers": MODIFIER.spec, "cameras": CAMERA.spec, "mounts": MOUNT.spec}
+SPECS = {"telescopes": [TELESCOPE.spec], "train_elements": list(ELEMENT_MODELS.values()),
+         "cameras": [CAMERA.spec], "mounts": [MOUNT.spec]}
 
 CLUB_COLUMNS = ["name", "display_name", "location", "contact_url", "created_at"]
 
@@ -50,19 +52,22 @@ def equipment_csv(equipment: ClubEquipment) -> str:
     """One row per item; the spec columns of all kinds side by side (blank where a kind has none)."""
     columns: list[str] = []
     for path, _resource in EQUIPMENT:
-        columns += [c for c in _spec_columns(SPECS[path]) if c not in columns]
+        for spec in SPECS[path]:
+            columns += [c for c in _spec_columns(spec) if c not in columns]
     rows = []
     for path, resource in EQUIPMENT:
         for item in getattr(equipment, path):
             flat = _flatten(item.model_dump(mode="json"))
+            flat = {k: "; ".join(map(str, v)) if isinstance(v, list) else v for k, v in flat.items()}
             rows.append([resource.label, item.id, item.name, *(flat.get(c) for c in columns)])
-    # "equipment", not "kind": a modifier has a field of that name.
+    # "equipment", not "kind": a train element has a field of that name.
     return records_csv(["equipment", "id", "name", *columns], rows)
 
 
 RIG_COLUMNS = [
     "id", "name",
     *(f"{slot}{suffix}" for slot in RIG_SLOTS for suffix in ("_id", "")),
+    "train_ids", "train",
     "accessories", "geometry.payload_arm_mm", "geometry.counterweight_kg",
 ]
 
@@ -81,6 +86,8 @@ def rigs_csv(rigs: Sequence[Any]) -> str:
         geometry = rig.resolved.geometry
         rows.append([
             rig.id, rig.name, *(cell for slot in RIG_SLOTS for cell in _slot_cells(rig, slot)),
+            "; ".join("" if not isinstance(e, Ref) else str(e.id) for e in rig.train),
+            "; ".join(e.name or e.kind.value for e in rig.resolved.train),
             "; ".join(a.name for a in rig.resolved.accessories),
             geometry.payload_arm_mm if geometry else None, geometry.counterweight_kg if geometry else None,
         ])

@@ -25,7 +25,7 @@ from plugins.registry import Registry
 #: The kinds of equipment, as (URL segment, resource) in the order a page shows them.
 EQUIPMENT = (
     ("telescopes", resources.TELESCOPES),
-    ("modifiers", resources.MODIFIERS),
+    ("train_elements", resources.TRAIN_ELEMENTS),
     ("cameras", resources.CAMERAS),
     ("mounts", resources.MOUNTS),
 )
@@ -75,7 +75,7 @@ def equipment(session: Session, club: Account, limit: int) -> ClubEquipment:
         rows, total = _public(session, resource.table, club, limit)
         lists[path] = resource.present(session, rows)
         complete = complete and total <= len(rows)
-    return ClubEquipment(club=club.name, complete=complete, **lists)
+    return ClubEquipment(club=club.name, complete=complete, modifiers=lists["train_elements"], **lists)
 
 
 def rigs(session: Session, club: Account, limit: int, offset: int) -> tuple[list[Any], int]:

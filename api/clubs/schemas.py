@@ -6,7 +6,7 @@ api.schemas and named here as values.)
 
 from pydantic import BaseModel, Field
 
-from api.schemas import CAMERA, MODIFIER, MOUNT, TELESCOPE, AccountPublic, ListMeta
+from api.schemas import CAMERA, MOUNT, TELESCOPE, TRAIN_ELEMENT, AccountPublic, ListMeta
 from plugins.results import Comparison
 
 
@@ -26,7 +26,12 @@ class ClubEquipment(BaseModel):
     club: str = Field(description="Handle of the club.")
     telescopes: list[TELESCOPE.public]
     cameras: list[CAMERA.public]
-    modifiers: list[MODIFIER.public]
+    train_elements: list[TRAIN_ELEMENT.public] = Field(
+        description="Reducers, correctors, filters, wheels, guiders, spacers and eyepieces."
+    )
+    modifiers: list[TRAIN_ELEMENT.public] = Field(
+        deprecated=True, description="Deprecated: the same list as train_elements, for one release."
+    )
     mounts: list[MOUNT.public]
     complete: bool = Field(
         description="False when a kind has more public items than the server's max_page_size; page "

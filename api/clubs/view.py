@@ -233,9 +233,13 @@ EQUIPMENT_TABLES = (
      ["Name", "Design", "Aperture [mm]", "Focal length [mm]", "Central obstruction [mm]", "Mass [kg]", "Price"],
      lambda t: [t.name or "—", t.design.value, number_text(t.aperture_mm), number_text(t.focal_length_mm),
                 number_text(t.obstruction_mm), _mass(t), _price(t)]),
-    ("modifiers", "Focal reducers, correctors and flatteners",
-     ["Name", "Kind", "Focal length factor [×]", "Mass [kg]", "Price"],
-     lambda m: [m.name or "—", m.kind.value, number_text(m.factor), _mass(m), _price(m)]),
+    ("train_elements", "Imaging train: reducers, correctors, filters, spacers, eyepieces",
+     ["Name", "Kind", "Focal length factor [×]", "Image circle [mm]", "Backfocus [mm]", "Mass [kg]",
+      "Price"],
+     lambda e: [e.root.name or "—", e.root.kind.value,
+                number_text(getattr(e.root, "factor", None) or 1.0),
+                number_text(getattr(e.root, "image_circle_mm", None)),
+                number_text(getattr(e.root, "backfocus_mm", None)), _mass(e.root), _price(e.root)]),
     ("cameras", "Cameras",
      ["Name", "Pixel size [µm]", "Width [pixels]", "Height [pixels]", "Mass [kg]", "Price"],
      lambda c: [c.name or "—", number_text(c.pixel_size_um), str(c.width_px), str(c.height_px), _mass(c),
@@ -267,9 +271,10 @@ def _component(part: Any) -> str:
 
 
 def rigs_table(rigs: list[Any]) -> SimpleTable:
-    headers = ["Rig", "Telescope", "Reducer or corrector", "Camera", "Mount", "Accessories"]
+    headers = ["Rig", "Telescope", "Imaging train", "Camera", "Mount", "Accessories"]
     rows = [
-        [rig.name, _component(rig.resolved.telescope), _component(rig.resolved.modifier),
+        [rig.name, _component(rig.resolved.telescope),
+         " → ".join(e.name or e.kind.value for e in rig.resolved.train) or "—",
          _component(rig.resolved.camera), _component(rig.resolved.mount),
          ", ".join(a.name for a in rig.resolved.accessories) or "—"]
         for rig in rigs

@@ -10,7 +10,7 @@ from sqlmodel import Session, select
 
 from api import schemas
 from api.accounts.keys import Principal
-from api.equipment.rules import SlotRequest, body_slots, full_rig, resolve_slots, stored_rig_specs
+from api.equipment.rules import SlotRequest, body_slots, full_rig, has_refs, resolve_slots, stored_rig_specs
 from api.http.problems import ApiProblem, FieldError
 from api.storage.models import RigRow
 from api.storage.store import readable_by
@@ -52,17 +52,17 @@ def check_request(body: schemas.ComparisonRequest, registry: Registry, max_rigs:
 
 
 def needs_database(body: schemas.ComparisonRequest) -> bool:
-    for entry in body.rigs:
+    for i, entry in enumerate(body.rigs):
         if isinstance(entry, schemas.Ref):
             return True
-        if any(isinstance(v, schemas.Ref) for v in body_slots(entry).values()):
+        if has_refs(body_slots(entry, ("rigs", i))):
             return True
     return False
 
 
 def inline_rigs(body: schemas.ComparisonRequest) -> list[Rig]:
     """Rigs given whole in the request (no database)."""
-    return [full_rig(entry, body_slots(entry), ("rigs", i)) for i, entry in enumerate(body.rigs)]
+    return [full_rig(entry, body_slots(entry, ("rigs", i)), ("rigs", i)) for i, entry in enumerate(body.rigs)]
 
 
 def resolve_rigs(
@@ -84,7 +84,7 @@ def resolve_rigs(
             raise invalid(errors)
         inline = [(i, e) for i, e in enumerate(body.rigs) if not isinstance(e, schemas.Ref)]
         slots = resolve_slots(
-            session, principal, [SlotRequest(body_slots(e), loc=("rigs", i)) for i, e in inline]
+            session, principal, [SlotRequest(body_slots(e, ("rigs", i)), loc=("rigs", i)) for i, e in inline]
         )
     rigs: list[Rig | None] = [None] * len(body.rigs)
     ids: list[int | None] = [None] * len(body.rigs)

@@ -24,9 +24,10 @@ MAX_ATTEMPTS = 20
 
 
 def crud_router(resource: Resource) -> APIRouter:
-    router = APIRouter(prefix=f"/v1/{resource.path}", tags=resource.tags)
+    router = APIRouter(prefix=f"/v1/{resource.path}", tags=resource.tags, deprecated=resource.deprecated or None)
     Create, Update, Public, Page = resource.create, resource.update, resource.public, resource.list
     label, table = resource.label, resource.table
+    op = label.replace(" ", "_")  # in operation ids and route names
 
     def present_one(session, row, owner) -> Any:
         [public] = resource.present(session, [(row, owner)])
@@ -58,7 +59,7 @@ def crud_router(resource: Resource) -> APIRouter:
     with_etag = {200: {"description": f"The {label}.", "headers": etag_header}}
 
     @router.post(
-        "", status_code=201, response_model=Public, operation_id=f"create_{label}",
+        "", status_code=201, response_model=Public, operation_id=f"create_{op}",
         summary=f"Store a new {label}",
         responses={
             201: {"description": f"The stored {label}.", "headers": {
@@ -71,12 +72,12 @@ def crud_router(resource: Resource) -> APIRouter:
     def create(body: Create, principal: Writer, session: SessionDep, request: Request, response: Response):
         values = resource.prepare(session, principal, body)
         row = insert(session, table, principal, values)
-        response.headers["Location"] = str(request.url_for(f"get_{label}", item_id=row.id))
+        response.headers["Location"] = str(request.url_for(f"get_{op}", item_id=row.id))
         response.headers["ETag"] = etag(row.version)
         return present_one(session, row, principal.account.name)
 
     @router.get(
-        "", response_model=Page, operation_id=f"list_{resource.path}",
+        "", response_model=Page, operation_id=f"list_{resource.path.replace("-", "_")}",
         summary=f"List the {label}s you can read", responses=problems.responses(401, 422),
     )
     def list_(
@@ -100,7 +101,7 @@ def crud_router(resource: Resource) -> APIRouter:
         return Page(items=resource.present(session, rows), total=total, limit=limit, offset=offset)
 
     @router.get(
-        "/{item_id}", response_model=Public, name=f"get_{label}", operation_id=f"get_{label}",
+        "/{item_id}", response_model=Public, name=f"get_{op}", operation_id=f"get_{op}",
         summary=f"Read one {label}", responses={**with_etag, **problems.responses(401, 404, 422)},
     )
     def get(item_id: ItemId, session: SessionDep, caller: Caller, response: Response):
@@ -109,7 +110,7 @@ def crud_router(resource: Resource) -> APIRouter:
         return present_one(session, row, owner)
 
     @router.put(
-        "/{item_id}", response_model=Public, operation_id=f"replace_{label}",
+        "/{item_id}", response_model=Public, operation_id=f"replace_{op}",
         summary=f"Replace a {label} you own", responses={**with_etag, **write_errors},
     )
     def replace(
@@ -121,7 +122,7 @@ def crud_router(resource: Resource) -> APIRouter:
         return present_one(session, row, owner)
 
     @router.patch(
-        "/{item_id}", response_model=Public, operation_id=f"patch_{label}",
+        "/{item_id}", response_model=Public, operation_id=f"patch_{op}",
         summary=f"Change some fields of a {label} you own", responses={**with_etag, **write_errors},
         description="Fields you send replace the stored ones; null resets a field to its default. "
         "Send If-Match with the ETag you read to be sure nobody changed the item in between.",
@@ -149,7 +150,7 @@ def crud_router(resource: Resource) -> APIRouter:
         return present_one(session, row, owner)
 
     @router.delete(
-        "/{item_id}", status_code=204, operation_id=f"delete_{label}", summary=f"Delete a {label} you own",
+        "/{item_id}", status_code=204, operation_id=f"delete_{op}", summary=f"Delete a {label} you own",
         responses=problems.responses(401, 403, 404, 409, 412, 422),
     )
     def delete(item_id: ItemId, principal: Writer, session: SessionDep, if_match: IfMatch = None) -> Response:

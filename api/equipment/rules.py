@@ -1,5 +1,9 @@
 """The stored resources (four kinds of equipment and rigs) and the rules that tie rigs to equipment.
 
+The kinds are telescopes, cameras, train elements (``/v1/train-elements``; the old ``/v1/modifiers``
+serves the same items for one release) and mounts. A rig's train is a list of slots: each element
+inline or ``{"id": N}``, mirrored in the rig's ``train_<position>_id`` columns.
+
 Rules, enforced here and documented in README:
 
 * a rig slot may reference only equipment its owner can read (their own, or someone's public item);
@@ -23,16 +27,30 @@ from sqlmodel import Session, select
 from api import schemas
 from api.accounts.keys import Principal
 from api.http.problems import ApiProblem, FieldError, from_validation_error
-from api.storage.models import CameraRow, ModifierRow, MountRow, RigRow, StoredItem, TelescopeRow, Visibility
+from sqlalchemy import or_
+
+from api.storage.models import (
+    TRAIN_COLUMNS,
+    CameraRow,
+    MountRow,
+    RigRow,
+    StoredItem,
+    TelescopeRow,
+    TrainElementRow,
+    Visibility,
+)
 from api.storage.store import aware, fetch_by_ids, readable_by
 from calculators.schemas import Rig
+from calculators.train_elements import train_element
 
 SLOT_TABLES: dict[str, type[StoredItem]] = {
     "telescope": TelescopeRow,
-    "modifier": ModifierRow,
+    "train": TrainElementRow,  # a list of slots: the rig's train
     "camera": CameraRow,
     "mount": MountRow,
 }
+#: The slot name each kind of equipment fills in a rig.
+TRAIN = "train"
 
 
 def meta(row: StoredItem, owner: str) -> dict[str, Any]:
@@ -60,6 +78,7 @@ class Resource:
     before_change: Callable[[Session, Principal, StoredItem, dict[str, Any]], None] = lambda *a: None
     before_delete: Callable[[Session, Principal, StoredItem], None] = lambda *a: None
     tags: list[str] = field(default_factory=list)
+    deprecated: bool = False
 
 
 # --- equipment ------------------------------------------------------------------------------------
@@ -76,9 +95,12 @@ def _equipment_present(public: type[BaseModel]):
     return present
 
 
-def _rigs_using(session: Session, label: str, item_id: int) -> list[RigRow]:
-    column = getattr(RigRow, f"{label}_id")
-    return list(session.exec(select(RigRow).where(column == item_id).order_by(RigRow.id)).all())
+def _rigs_using(session: Session, slot: str, item_id: int) -> list[RigRow]:
+    if slot == TRAIN:
+        used = or_(*(getattr(RigRow, column) == item_id for column in TRAIN_COLUMNS))
+    else:
+        used = getattr(RigRow, f"{slot}_id") == item_id
+    return list(session.exec(select(RigRow).where(used).order_by(RigRow.id)).all())
 
 
 def _rig_list(rigs: Sequence[RigRow], principal: Principal) -> tuple[list[int], int]:
@@ -97,9 +119,9 @@ def _used_by(label: str, item_id: int, rigs: Sequence[RigRow], principal: Princi
     )
 
 
-def _equipment_hooks(label: str):
+def _equipment_hooks(label: str, slot: str):
     def before_change(session: Session, principal: Principal, row: StoredItem, values: dict[str, Any]) -> None:
-        rigs = _rigs_using(session, label, row.id)
+        rigs = _rigs_using(session, slot, row.id)
         if not rigs:
             return
         if values["visibility"] == Visibility.private.value:
@@ -111,7 +133,7 @@ def _equipment_hooks(label: str):
                 )
         if values["spec"] != row.spec:
             broken = []
-            specs = stored_rig_specs(session, rigs, override={(label, row.id): values["spec"]})
+            specs = stored_rig_specs(session, rigs, override={(slot, row.id): values["spec"]})
             for rig, spec in zip(rigs, specs):
                 try:
                     Rig.model_validate(spec)
@@ -121,26 +143,37 @@ def _equipment_hooks(label: str):
                 raise _used_by(label, row.id, broken, principal, "the change would make them invalid")
 
     def before_delete(session: Session, principal: Principal, row: StoredItem) -> None:
-        rigs = _rigs_using(session, label, row.id)
+        rigs = _rigs_using(session, slot, row.id)
         if rigs:
             raise _used_by(label, row.id, rigs, principal, "change or delete those rigs first")
 
     return before_change, before_delete
 
 
-def _equipment(path: str, label: str, table: type[StoredItem], bodies: schemas.EquipmentSchemas) -> Resource:
-    before_change, before_delete = _equipment_hooks(label)
+def _element_prepare(session: Session, principal: Principal, body: BaseModel) -> dict[str, Any]:
+    return _equipment_prepare(session, principal, body.root)  # a root model over the kinds
+
+
+def _equipment(path: str, label: str, table: type[StoredItem], bodies, slot: str | None = None,
+               deprecated: bool = False) -> Resource:
+    before_change, before_delete = _equipment_hooks(label, slot or label)
+    rooted = bodies is schemas.TRAIN_ELEMENT
     return Resource(
         path=path, label=label, table=table, create=bodies.create, update=bodies.update,
-        public=bodies.public, list=bodies.list, prepare=_equipment_prepare,
+        public=bodies.public, list=bodies.list,
+        prepare=_element_prepare if rooted else _equipment_prepare,
         present=_equipment_present(bodies.public), before_change=before_change,
-        before_delete=before_delete, tags=["equipment"],
+        before_delete=before_delete, tags=["equipment"], deprecated=deprecated,
     )
 
 
 TELESCOPES = _equipment("telescopes", "telescope", TelescopeRow, schemas.TELESCOPE)
 CAMERAS = _equipment("cameras", "camera", CameraRow, schemas.CAMERA)
-MODIFIERS = _equipment("modifiers", "modifier", ModifierRow, schemas.MODIFIER)
+TRAIN_ELEMENTS = _equipment("train-elements", "train element", TrainElementRow,
+                            schemas.TRAIN_ELEMENT, slot=TRAIN)
+# The old name of the same items, served for one release.
+MODIFIERS = _equipment("modifiers", "modifier", TrainElementRow, schemas.TRAIN_ELEMENT, slot=TRAIN,
+                       deprecated=True)
 MOUNTS = _equipment("mounts", "mount", MountRow, schemas.MOUNT)
 
 
@@ -166,8 +199,9 @@ def resolve_slots(session: Session, principal: Principal | None, requests: Seque
     wanted: dict[str, set[int]] = {slot: set() for slot in SLOT_TABLES}
     for request in requests:
         for slot, value in request.slots.items():
-            if isinstance(value, schemas.Ref):
-                wanted[slot].add(value.id)
+            for item in (value if slot == TRAIN else [value]):
+                if isinstance(item, schemas.Ref):
+                    wanted[slot].add(item.id)
     found: dict[str, dict[int, StoredItem]] = {}
     for slot, ids in wanted.items():
         table = SLOT_TABLES[slot]
@@ -177,26 +211,31 @@ def resolve_slots(session: Session, principal: Principal | None, requests: Seque
         }
     errors: list[FieldError] = []
     resolved = []
+    def one(slot: str, value: Any, where: str) -> Any:
+        if not isinstance(value, schemas.Ref):
+            return value  # None, or already validated: Rig reuses the instance as it is
+        what = "train element" if slot == TRAIN else slot
+        row = found[slot].get(value.id)
+        if row is None:
+            errors.append(FieldError(field=where, message=f"no {what} with id {value.id} that you can read"))
+        elif request.public_only and row.visibility != Visibility.public.value:
+            errors.append(FieldError(
+                field=where,
+                message=f"{what} {value.id} is private; a public rig may use only public equipment",
+            ))
+        else:
+            return row.spec
+        return None
+
     for request in requests:
         out: dict[str, Any] = {}
         for slot, value in request.slots.items():
             named = (slot,) if request.slot_in_path else ()
-            where = ".".join(map(str, (*request.loc, *named, "id")))
-            if isinstance(value, schemas.Ref):
-                row = found[slot].get(value.id)
-                if row is None:
-                    errors.append(FieldError(field=where, message=f"no {slot} with id {value.id} that you can read"))
-                elif request.public_only and row.visibility != Visibility.public.value:
-                    errors.append(FieldError(
-                        field=where,
-                        message=f"{slot} {value.id} is private; a public rig may use only public equipment",
-                    ))
-                else:
-                    out[slot] = row.spec
-            elif value is None:
-                out[slot] = None
+            if slot == TRAIN:
+                out[slot] = [one(slot, item, ".".join(map(str, (*request.loc, *named, i, "id"))))
+                             for i, item in enumerate(value)]
             else:
-                out[slot] = value  # already validated: Rig reuses the instance as it is
+                out[slot] = one(slot, value, ".".join(map(str, (*request.loc, *named, "id"))))
         resolved.append(out)
     if errors:
         raise ApiProblem(
@@ -220,8 +259,30 @@ def full_rig(body: BaseModel, slots: dict[str, Any], loc: tuple[Any, ...] = ()) 
         raise from_validation_error(exc, prefix=loc) from None
 
 
-def body_slots(body: BaseModel) -> dict[str, Any]:
-    return {slot: getattr(body, slot) for slot in SLOT_TABLES}
+def body_slots(body: BaseModel, loc: tuple[Any, ...] = ()) -> dict[str, Any]:
+    """A rig body's slots; the deprecated ``modifier`` is read as a one-element train."""
+    slots = {slot: getattr(body, slot, None) for slot in SLOT_TABLES}
+    slots[TRAIN] = list(slots[TRAIN] or [])
+    modifier = body.__dict__.get("modifier")  # not getattr: the field is deprecated
+    if modifier is not None:
+        if slots[TRAIN]:
+            where = ".".join(map(str, (*loc, "modifier")))
+            raise ApiProblem(
+                422, f"{where}: give the train, or the deprecated modifier, not both",
+                title="Invalid input", type="/problems/invalid-input",
+                errors=[FieldError(field=where, message="give the train, or the deprecated "
+                                   "modifier, not both")],
+            )
+        if not isinstance(modifier, schemas.Ref):
+            modifier = train_element(modifier.to_element())
+        slots[TRAIN] = [modifier]
+    return slots
+
+
+def has_refs(slots: dict[str, Any]) -> bool:
+    """Whether any slot (or train element) names stored equipment."""
+    return any(isinstance(item, schemas.Ref)
+               for slot, value in slots.items() for item in (value if slot == TRAIN else [value]))
 
 
 def stored_rig_specs(
@@ -229,16 +290,26 @@ def stored_rig_specs(
 ) -> list[dict]:
     """Stored rigs with their references filled in (no access check: the rules above keep them readable)."""
     override = override or {}
-    wanted = {slot: [r.spec[slot]["id"] for r in rigs if _is_ref(r.spec.get(slot))] for slot in SLOT_TABLES}
+    def items(spec: dict, slot: str) -> list:
+        return list(spec.get(slot) or []) if slot == TRAIN else [spec.get(slot)]
+
+    wanted = {slot: [v["id"] for r in rigs for v in items(r.spec, slot) if _is_ref(v)] for slot in SLOT_TABLES}
     rows = {slot: fetch_by_ids(session, SLOT_TABLES[slot], ids) for slot, ids in wanted.items()}
+
+    def filled(slot: str, value: Any) -> Any:
+        if not _is_ref(value):
+            return value
+        key = (slot, value["id"])
+        return override[key] if key in override else rows[slot][value["id"]].spec
+
     specs = []
     for rig in rigs:
         spec = dict(rig.spec)
         for slot in SLOT_TABLES:
-            value = spec.get(slot)
-            if _is_ref(value):
-                key = (slot, value["id"])
-                spec[slot] = override[key] if key in override else rows[slot][value["id"]].spec
+            if slot == TRAIN:
+                spec[slot] = [filled(slot, v) for v in items(spec, slot)]
+            else:
+                spec[slot] = filled(slot, spec.get(slot))
         specs.append(spec)
     return specs
 
@@ -249,13 +320,18 @@ def _is_ref(value: Any) -> bool:
 
 def _rig_prepare(session: Session, principal: Principal, body: BaseModel) -> dict[str, Any]:
     public = body.visibility == Visibility.public
-    [slots] = resolve_slots(session, principal, [SlotRequest(body_slots(body), public_only=public)])
+    given = body_slots(body)
+    [slots] = resolve_slots(session, principal, [SlotRequest(given, public_only=public)])
     full_rig(body, slots)
-    spec = body.model_dump(mode="json", exclude={"visibility"})
+    spec = body.model_dump(mode="json", exclude={"visibility", "modifier", TRAIN})
+    spec[TRAIN] = [item.model_dump(mode="json") for item in given[TRAIN]]
     refs = {
         f"{slot}_id": (value.id if isinstance(value, schemas.Ref) else None)
-        for slot, value in body_slots(body).items()
+        for slot, value in given.items() if slot != TRAIN
     }
+    train_ids = [item.id if isinstance(item, schemas.Ref) else None for item in given[TRAIN]]
+    refs.update({column: train_ids[i] if i < len(train_ids) else None
+                 for i, column in enumerate(TRAIN_COLUMNS)})
     return {"spec": spec, "name": body.name, "visibility": body.visibility.value, **refs}
 
 

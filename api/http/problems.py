@@ -28,6 +28,8 @@ MEDIA_TYPE = "application/problem+json"
 
 #: Tags of the "inline object or {"id": N}" unions (see api.schemas); they are not part of a field's path.
 UNION_TAGS = frozenset({"stored", "inline"})
+#: Prefix of the tags of the train-element union, told apart by kind (calculators.train_elements).
+ELEMENT_TAG_PREFIX = "kind="
 
 
 class FieldError(BaseModel):
@@ -79,7 +81,7 @@ def field_path(loc: Iterable[Any]) -> str:
         kind, parts = parts[0], parts[1:]
         if kind != "body" and not parts:
             parts = [kind]
-    parts = [p for p in parts if p not in UNION_TAGS]
+    parts = [p for p in parts if p not in UNION_TAGS and not p.startswith(ELEMENT_TAG_PREFIX)]
     return ".".join(parts) or "(body)"
 
 

@@ -74,7 +74,7 @@ class ApiKey(SQLModel, table=True):
 
 
 class StoredItem(SQLModel):
-    """Columns every stored telescope, camera, modifier, mount and rig has."""
+    """Columns every stored telescope, camera, train element, mount and rig has."""
 
     id: int | None = Field(default=None, primary_key=True, sa_type=ID)
     owner_id: int = Field(foreign_key="accounts.id", index=True, ondelete="CASCADE", sa_type=ID)
@@ -94,8 +94,11 @@ class CameraRow(StoredItem, table=True):
     __tablename__ = "cameras"
 
 
-class ModifierRow(StoredItem, table=True):
-    __tablename__ = "modifiers"
+class TrainElementRow(StoredItem, table=True):
+    """A stored element of an imaging train (reducer, filter, spacer, eyepiece...; see
+    calculators.train_elements). Stored modifiers became these (migration 0003_imaging_train)."""
+
+    __tablename__ = "train_elements"
 
 
 class MountRow(StoredItem, table=True):
@@ -115,5 +118,18 @@ class RigRow(StoredItem, table=True):
 
     telescope_id: int | None = _reference("telescopes")
     camera_id: int | None = _reference("cameras")
-    modifier_id: int | None = _reference("modifiers")
     mount_id: int | None = _reference("mounts")
+    # The stored element at each position of the train (a train holds at most 8 elements,
+    # calculators.train_elements.MAX_TRAIN_ELEMENTS); null where the element is inline or absent.
+    train_0_id: int | None = _reference("train_elements")
+    train_1_id: int | None = _reference("train_elements")
+    train_2_id: int | None = _reference("train_elements")
+    train_3_id: int | None = _reference("train_elements")
+    train_4_id: int | None = _reference("train_elements")
+    train_5_id: int | None = _reference("train_elements")
+    train_6_id: int | None = _reference("train_elements")
+    train_7_id: int | None = _reference("train_elements")
+
+
+#: The rig columns that mirror its train's stored elements, by position.
+TRAIN_COLUMNS = tuple(f"train_{i}_id" for i in range(8))

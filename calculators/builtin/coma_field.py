@@ -21,7 +21,7 @@ heights and coma alike, so the same holds in the rig's focal plane with y measur
   (h the pupil radius, f/h = 2N) gives at the pupil's edge in the tangential plane TC = 6N·W₁₃₁
   (here N is the effective ratio m·N_p, since a barlow also lengthens f). Setting W₁₃₁/√72 = λ/14
   and TC = 3y/(16 N_p²) gives ``y = 32·(√72/14)·λ·m·N_p³ = 19.396·λ·m·N_p³``; the field's diameter is
-  ``2y = 38.79·λ·m·N_p³``, ≈ 0.0213·N³ mm at 550 nm without modifier.
+  ``2y = 38.79·λ·m·N_p³``, ≈ 0.0213·N³ mm at 550 nm without a train.
 * ``airy``: tangential coma equal to the Airy disc diameter 2.43934·λ·N (Born & Wolf §8.5.2), so
   ``y = (16/3)·2.43934·λ·m·N_p³`` and the diameter ≈ 0.0143·N³ mm at 550 nm.
 
@@ -31,9 +31,9 @@ equals the coma-free radius, so the tolerance is ``δ = y`` — it grows as N³,
 reflectors need careful collimation. It applies to every newtonian, with or without a corrector (a
 corrector cannot remove the coma of a tilted primary).
 
-**Verdict**: a newtonian without a correcting modifier gets "corrector needed" when the coma-free
-field is smaller than the sensor's diagonal. A modifier that states ``corrected_field_mm`` (on any
-design) is compared with the sensor's diagonal instead. A modifier of kind ``corrector`` counts as
+**Verdict**: a newtonian without a correcting element in its train gets "corrector needed" when the coma-free
+field is smaller than the sensor's diagonal. An element with focusing power that states ``image_circle_mm`` (on any
+design) is compared with the sensor's diagonal instead. An element of kind ``corrector`` counts as
 correcting even without a stated field.
 
 Example: a 200 mm f/5 newtonian at 550 nm has a Maréchal coma-free field of 2.67 mm and a collimation
@@ -122,19 +122,19 @@ class ComaField(Calculator):
     )
 
     def compute(self, batch: RigBatch, params: ComaFieldParams) -> dict[str, np.ndarray]:
-        factor = batch["modifier_factor"]
+        factor = batch["train_factor"]
         diagonal = sensor_diagonal_mm(batch)
         radius = coma_free_radius_mm(
             params.wavelength_nm, primary_focal_ratio(batch), factor, params.criterion
         )
         newtonian = np.isin(batch["design"], PARABOLOIDAL)
-        stated = np.isfinite(batch["corrected_field_mm"])
-        correcting = stated | (batch["modifier_kind"] == "corrector")
+        stated = np.isfinite(batch["train_corrected_field_mm"])
+        correcting = stated | batch["train_has_corrector"]
         bare_newtonian = newtonian & ~correcting
 
         field = np.where(bare_newtonian, 2.0 * radius, np.nan)
         field_arcmin = field / effective_focal_length_mm(batch) * ARCSEC_PER_RAD / 60.0
-        compared = np.where(stated, batch["corrected_field_mm"], field)
+        compared = np.where(stated, batch["train_corrected_field_mm"], field)
         with np.errstate(invalid="ignore"):
             ratio = compared / diagonal
             fits = ratio >= 1.0

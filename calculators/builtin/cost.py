@@ -2,7 +2,7 @@
 
 Formulas (units in the names; C is the currency):
 
-* ``total_price = Σ price`` over the priced components — telescope, modifier, camera, mount and
+* ``total_price = Σ price`` over the priced components — telescope, train (its elements), camera, mount and
   accessories — in one currency [C]; unpriced components add nothing, and a rig with no price at
   all has a null total;
 * ``price_per_cm2 = total_price / A_clear`` [C/cm²], with ``A_clear = π/4·(D² − d²)`` the collecting

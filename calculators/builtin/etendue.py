@@ -3,7 +3,7 @@
 Formulas (units in the names):
 
 * field solid angle ``Ω = 4·arcsin(sin α · sin β)`` with ``α = atan(w / 2f)``, ``β = atan(h / 2f)``,
-  w × h the sensor in mm and f the effective focal length (after the modifier), in mm — the exact
+  w × h the sensor in mm and f the effective focal length (through the train), in mm — the exact
   solid angle of the rectangular pyramid the sensor subtends, given in deg²;
 * ``etendue_m2_deg2 = A_clear · Ω``, with ``A_clear = π/4·(D² − d²)`` in m²;
 * ``pixel_etendue_m2_arcsec2 = A_clear · (p/f)²``, the same product for one pixel, with the pixel's

@@ -10,7 +10,7 @@ magnitude (from memory), so V-band figures can be used as they are.
 
 Per pixel, electrons per second from a surface of brightness μ:
 
-    rate = φ₀ · 10^(−0.4·μ) · A_clear · τ_telescope · τ_modifier · QE · Ω_pixel,
+    rate = φ₀ · 10^(−0.4·μ) · A_clear · τ_telescope · τ_train · QE · Ω_pixel,
 
 with A_clear = π/4·(D² − d²) and Ω_pixel the pixel's solid angle in arcsec² (pixel scale squared).
 
@@ -121,7 +121,7 @@ class IntegrationTime(Calculator):
     def compute(self, batch: RigBatch, params: IntegrationTimeParams) -> dict[str, np.ndarray]:
         scale = pixel_scale_arcsec(batch["pixel_size_um"], effective_focal_length_mm(batch))
         area_m2 = clear_area_mm2(batch["aperture_mm"], batch["obstruction_mm"]) * 1e-6
-        collecting = (area_m2 * batch["telescope_throughput"] * batch["modifier_throughput"]
+        collecting = (area_m2 * batch["telescope_throughput"] * batch["train_throughput"]
                       * batch["quantum_efficiency"] * np.square(scale))
         per_m2 = photon_rate_per_m2(
             [params.surface_brightness_mag_arcsec2, params.sky_brightness_mag_arcsec2],

@@ -25,8 +25,8 @@ RAYLEIGH_FACTOR = BESSEL_J1_FIRST_ZERO / math.pi
 
 
 def effective_focal_length_mm(batch: RigBatch) -> np.ndarray:
-    """Telescope focal length times the modifier's factor (1 without a modifier), in mm."""
-    return batch["focal_length_mm"] * batch["modifier_factor"]
+    """Telescope focal length times every train element's factor (1 for an empty train), in mm."""
+    return batch["focal_length_mm"] * batch["train_factor"]
 
 
 def primary_focal_ratio(batch: RigBatch) -> np.ndarray:
@@ -35,7 +35,7 @@ def primary_focal_ratio(batch: RigBatch) -> np.ndarray:
 
 
 def effective_focal_ratio(batch: RigBatch) -> np.ndarray:
-    """Focal ratio after the modifier, f·factor/D."""
+    """Focal ratio through the train, f·factor/D."""
     return effective_focal_length_mm(batch) / batch["aperture_mm"]
 
 

@@ -2,7 +2,7 @@
 
 Formulas (SI inside; units in the names; lengths arrive in mm and are converted to m):
 
-* ``payload_kg = m_telescope + m_modifier + m_camera + m_accessories`` (null when a mass is unknown);
+* ``payload_kg = m_telescope + m_train + m_camera + m_accessories`` (null when a mass is unknown);
 * ``capacity_fraction = payload / capacity`` (the mount's rated instrument payload);
 * ``imaging_margin_kg = f_img · capacity − payload``, with ``f_img = imaging_fraction`` (default 0.5:
   keeping an imaging payload to about half the rated capacity is common practice, not a standard);
@@ -63,8 +63,8 @@ class PayloadParams(Strict):
 
 
 def payload_kg(batch: RigBatch) -> np.ndarray:
-    """Mass the mount carries: telescope + modifier + camera + accessories, in kg."""
-    return (batch["telescope_mass_kg"] + batch["modifier_mass_kg"]) + (
+    """Mass the mount carries: telescope + train + camera + accessories, in kg."""
+    return (batch["telescope_mass_kg"] + batch["train_mass_kg"]) + (
         batch["camera_mass_kg"] + batch["accessories_mass_kg"]
     )
 
@@ -97,7 +97,7 @@ class Payload(Calculator):
     summary = "Payload against the mount's rating, wind force on the tube, moments and inertia."
     Params = PayloadParams
     outputs = (
-        Output("payload_kg", "kg", "Telescope + modifier + camera + accessories.", nullable=True),
+        Output("payload_kg", "kg", "Telescope + train + camera + accessories.", nullable=True),
         Output("capacity_fraction", "", "Payload ÷ the mount's rated capacity.", nullable=True),
         Output("imaging_margin_kg", "kg",
                "imaging_fraction × capacity − payload (common-practice imaging limit; negative: over).",

@@ -1,6 +1,6 @@
 """Sampling: pixel scale, field of view, and how the pixels sample the seeing.
 
-Formulas (units in the names; f is the effective focal length after the modifier, in mm):
+Formulas (units in the names; f is the effective focal length through the train, in mm):
 
 * ``pixel_scale_arcsec = 206.265 · p[µm] / f[mm]`` (p/f in radians as arcseconds, 648 000/π per rad);
 * ``fov_width_arcmin = 2·atan(w / 2f)``, likewise height and diagonal (exact, not small-angle),

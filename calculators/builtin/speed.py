@@ -2,9 +2,9 @@
 
 Formulas (units in the names):
 
-* effective focal length ``f = f_telescope · k`` (k the modifier's factor, 1 without one) [mm];
+* effective focal length ``f = f_telescope · k`` (k the product of the train elements' factors, 1 for none) [mm];
 * ``focal_ratio N = f / D`` (dimensionless), D the aperture;
-* throughput ``τ = τ_telescope · τ_modifier`` (given, or the per-design default, common practice);
+* throughput ``τ = τ_telescope · τ_train`` (given, or the per-design default, common practice);
 * clear area ``A = π/4·(D² − d²)`` [mm²], d the central obstruction;
 * signal per unit sky area ∝ ``A·τ``, so ``time_factor_per_arcsec2 = (A·τ)_baseline / (A·τ)``;
 * signal per pixel from an extended object ∝ ``A·τ·Ω_pixel`` with ``Ω_pixel = (p/f)²``, so
@@ -45,13 +45,13 @@ from calculators.builtin.light_grasp import clear_area_mm2
 
 
 def effective_focal_length_mm(batch: RigBatch) -> np.ndarray:
-    """Focal length after the modifier (reducer, barlow, ...): f · factor, in mm (f without one)."""
-    return batch["focal_length_mm"] * batch["modifier_factor"]
+    """Focal length through the train (reducers, barlows, ...): f · factor, in mm (f without one)."""
+    return batch["focal_length_mm"] * batch["train_factor"]
 
 
 def throughput(batch: RigBatch) -> np.ndarray:
-    """Fraction of the light that reaches the sensor: telescope τ × modifier τ (1 without one)."""
-    return batch["telescope_throughput"] * batch["modifier_throughput"]
+    """Fraction of the light that reaches the sensor: telescope τ × the train's τ (1 for none)."""
+    return batch["telescope_throughput"] * batch["train_throughput"]
 
 
 class Speed(Calculator):
@@ -78,9 +78,9 @@ class Speed(Calculator):
     summary = "Effective focal ratio and exposure time relative to the baseline, per pixel and per sky area."
     Params = NoParams
     outputs = (
-        Output("focal_ratio", "", "Effective focal ratio N = f/D after the modifier."),
-        Output("effective_focal_length_mm", "mm", "Focal length after the modifier."),
-        Output("throughput", "", "Fraction of light reaching the sensor (telescope × modifier)."),
+        Output("focal_ratio", "", "Effective focal ratio N = f/D through the train."),
+        Output("effective_focal_length_mm", "mm", "Focal length through the train."),
+        Output("throughput", "", "Fraction of light reaching the sensor (telescope × train)."),
         Output("time_factor_per_pixel", "",
                "Exposure time for equal signal per pixel from an extended object, relative to the "
                "baseline (∝ 1/(A·τ·Ω_pixel)).", relative=True),
