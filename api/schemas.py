@@ -146,6 +146,15 @@ def _element_union(models: dict[str, type[BaseModel]]) -> Any:
     ]
 
 
+class _Rooted(RootModel):
+    """A root model that reads its root's attributes (``item.id``, ``item.kind``) as its own."""
+
+    def __getattr__(self, name: str) -> Any:
+        if name.startswith("_") or name == "root":
+            return super().__getattr__(name)
+        return getattr(self.root, name)
+
+
 class TrainElementSchemas:
     """The role-named bodies of a stored train element: one per kind, told apart by ``kind``.
 
@@ -164,11 +173,11 @@ class TrainElementSchemas:
                 model.__name__ = model.__qualname__ = f"{title}Element{role.capitalize()}"
                 model.model_rebuild(force=True)
         self.spec = TrainElement
-        self.create = type("TrainElementCreate", (RootModel[_element_union(
+        self.create = type("TrainElementCreate", (_Rooted[_element_union(
             {k: b.create for k, b in per_kind.items()})],), {
             "__module__": __name__, "__doc__": "A new train element (its fields depend on `kind`).",
         })
-        self.public = type("TrainElementPublic", (RootModel[_element_union(
+        self.public = type("TrainElementPublic", (_Rooted[_element_union(
             {k: b.public for k, b in per_kind.items()})],), {
             "__module__": __name__, "__doc__": "A stored train element.",
         })

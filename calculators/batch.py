@@ -70,7 +70,7 @@ NAN = float("nan")
 PRICE_SLOTS = ("telescope", "train", "camera", "mount", "accessories")
 
 #: Sweep axes, in order.
-AXES = ("telescope", "camera", "modifier", "mount")
+AXES = ("telescope", "camera", "train", "mount")
 
 
 def _amount(price: Price | None) -> float:

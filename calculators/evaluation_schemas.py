@@ -8,11 +8,12 @@ The service's ``POST /v1/evaluations`` route builds its request model from :clas
 
 from __future__ import annotations
 
-from typing import Any, Literal
+from typing import Annotated, Any, Literal
 
-from pydantic import BaseModel, Field
+from pydantic import BaseModel, Field, ValidationInfo, field_validator, model_validator
 
 from calculators.schemas import Camera, Modifier, Mount, Strict, Telescope
+from calculators.train_elements import MAX_TRAIN_ELEMENTS, TrainElement, check_train, train_element
 
 #: Largest ``limit`` a request may ask for.
 MAX_LIMIT = 1000
@@ -32,8 +33,17 @@ class Indices(Strict):
 
     telescope: int = Field(default=0, ge=0)
     camera: int = Field(default=0, ge=0)
-    modifier: int = Field(default=0, ge=0)
+    train: int = Field(default=0, ge=0)
     mount: int = Field(default=0, ge=0)
+
+    @model_validator(mode="before")
+    @classmethod
+    def _old_modifier_index(cls, data: Any) -> Any:
+        # Read for one release: the train's index was the modifier's.
+        if isinstance(data, dict) and "modifier" in data and "train" not in data:
+            data = dict(data)
+            data["train"] = data.pop("modifier")
+        return data
 
 
 class Ids(BaseModel):
@@ -41,7 +51,9 @@ class Ids(BaseModel):
 
     telescope: int | None = None
     camera: int | None = None
-    modifier: int | None = None
+    train: list[int | None] | None = Field(
+        default=None, description="One per element of the train (null for an inline element)."
+    )
     mount: int | None = None
 
 
@@ -69,17 +81,48 @@ class EvaluationSpec(Strict):
     limit: int = Field(default=20, ge=0, le=MAX_LIMIT, description="How many rows `top` holds.")
 
 
+#: One candidate train: its elements, telescope side first.
+Train = Annotated[list[TrainElement], Field(max_length=MAX_TRAIN_ELEMENTS)]
+
+
+def trains_from(value: list, info) -> list:
+    """The request's trains, with the deprecated ``modifiers`` read as one-element trains; each
+    train checked on its own (an eyepiece only last, one currency)."""
+    modifiers = info.data.get("modifiers")
+    if modifiers is not None:
+        if value != [[]]:
+            raise ValueError("give trains, or the deprecated modifiers, not both")
+        value = [[] if m is None else [m if not isinstance(m, Modifier) else
+                                        train_element(m.to_element())] for m in modifiers]
+    for i, train in enumerate(value):
+        try:
+            check_train([e for e in train if hasattr(e, "kind")], None)
+        except ValueError as exc:
+            raise ValueError(f"{i}: {exc}") from None
+    return value
+
+
 class InlineEvaluationRequest(EvaluationSpec):
     """A whole evaluation request with every component given inline."""
 
     telescopes: list[Telescope] = Field(min_length=1)
     cameras: list[Camera] = Field(min_length=1)
-    modifiers: list[Modifier | None] = Field(
-        default_factory=lambda: [None], min_length=1, description="null means no modifier."
+    modifiers: list[Modifier | None] | None = Field(
+        default=None, min_length=1, deprecated=True,
+        description="Deprecated (one release): each becomes a one-element train; null no train.",
+    )
+    trains: list[Train] = Field(
+        default_factory=lambda: [[]], min_length=1, validate_default=True,
+        description="Candidate trains; [] is nothing between telescope and camera.",
     )
     mounts: list[Mount | None] = Field(
         default_factory=lambda: [None], min_length=1, description="null means no mount."
     )
+
+    @field_validator("trains")
+    @classmethod
+    def _trains(cls, value: list, info: ValidationInfo) -> list:
+        return trains_from(value, info)
 
 
 class EvaluationRow(BaseModel):

@@ -77,7 +77,7 @@ def crud_router(resource: Resource) -> APIRouter:
         return present_one(session, row, principal.account.name)
 
     @router.get(
-        "", response_model=Page, operation_id=f"list_{resource.path.replace("-", "_")}",
+        "", response_model=Page, operation_id=f"list_{resource.path.replace('-', '_')}",
         summary=f"List the {label}s you can read", responses=problems.responses(401, 422),
     )
     def list_(

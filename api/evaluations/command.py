@@ -23,8 +23,8 @@ from typing import Any, TextIO
 
 from api.settings import Settings
 
-KINDS = ("telescope", "camera", "modifier", "mount")
-LISTS = ("telescopes", "cameras", "modifiers", "mounts")
+KINDS = ("telescope", "camera", "train", "mount")
+LISTS = ("telescopes", "cameras", "trains", "mounts", "modifiers")
 LABEL_WIDTH = 28
 
 
@@ -35,7 +35,7 @@ class Refused(Exception):
 def add_evaluate(subparsers: argparse._SubParsersAction) -> None:
     parser = subparsers.add_parser(
         "evaluate", help="sweep every combination of candidate equipment and print the Pareto front",
-        description="Sweep every combination of the candidate telescopes, cameras, modifiers and "
+        description="Sweep every combination of the candidate telescopes, cameras, trains and "
         "mounts in REQUEST (the body of POST /v1/evaluations, see README) and print the Pareto "
         "front. Computed here unless --url names a server.",
     )
@@ -124,8 +124,13 @@ def _local(body: dict[str, Any], settings: Settings, chunk_rows: int | None, *,
     from calculators.sweep import DEFAULT_CHUNK_ROWS, EvaluationError, evaluate_spec
     from plugins.registry import load_registry
 
+    def is_ref(entry: Any) -> bool:
+        return isinstance(entry, dict) and set(entry) == {"id"}
+
     stored = [f"{name}.{i}" for name in LISTS for i, entry in enumerate(body.get(name) or ())
-              if isinstance(entry, dict) and set(entry) == {"id"}]
+              if is_ref(entry)]
+    stored += [f"trains.{i}.{j}" for i, train in enumerate(body.get("trains") or ())
+               if isinstance(train, list) for j, entry in enumerate(train) if is_ref(entry)]
     if stored:
         raise Refused(f"{', '.join(stored[:5])}: stored equipment ({{\"id\": N}}) needs a server; "
                       "give --url (and --key for private items), or give the component inline")
@@ -141,7 +146,7 @@ def _local(body: dict[str, Any], settings: Settings, chunk_rows: int | None, *,
     registry = load_registry(disabled=settings.disabled_plugins)
     try:
         result = evaluate_spec(
-            spec.telescopes, spec.cameras, spec.modifiers, spec.mounts, spec,
+            spec.telescopes, spec.cameras, spec.trains, spec.mounts, spec,
             calculators=registry.calculators, max_combinations=settings.max_combinations,
             chunk_rows=chunk_rows, progress=ProgressBar(sys.stderr) if show_progress else None,
             max_front_rows=MAX_FRONT_ROWS,
@@ -222,8 +227,15 @@ def _label(body: Mapping[str, Any], kind: str, row: Mapping[str, Any]) -> str:
     """A component as the request gave it: its name, its stored id, or 'none' for null."""
     index = row["indices"][kind]
     entries = body.get(f"{kind}s") or [None]
+    if kind == "train" and "trains" not in body and body.get("modifiers"):  # the old name
+        entries = [[] if m is None else [m] for m in body["modifiers"]]
     entry = entries[index] if index < len(entries) else None
-    if entry is None:
+    if kind == "train":
+        parts = [] if not isinstance(entry, list) else [
+            f"id {e['id']}" if isinstance(e, dict) and set(e) == {"id"} else
+            (e.get("name") or e.get("kind", "?")) if isinstance(e, dict) else "?" for e in entry]
+        text = " + ".join(parts) or "none"
+    elif entry is None:
         text = "none"
     elif set(entry) == {"id"}:
         text = f"id {entry['id']}"

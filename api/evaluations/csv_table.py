@@ -19,6 +19,8 @@ from calculators.evaluation_schemas import EvaluationResult, EvaluationRow
 def _cell(value: object) -> object:
     if value is None:
         return ""
+    if isinstance(value, list):  # a train's stored ids, one per element ("" where inline)
+        return ";".join("inline" if v is None else str(v) for v in value)
     return repr(value) if isinstance(value, float) else value
 
 

@@ -9,9 +9,9 @@ from __future__ import annotations
 
 import math
 import re
-from typing import Any
+from typing import Annotated, Any
 
-from pydantic import Field, ValidationError
+from pydantic import Field, ValidationError, ValidationInfo, field_validator
 from sqlalchemy import Engine
 from sqlmodel import Session
 
@@ -20,13 +20,14 @@ from api.equipment.rules import SlotRequest, resolve_slots
 from api.http.problems import ApiProblem, FieldError, field_errors, field_path, from_validation_error
 from api.schemas import Ref, slot
 from calculators.batch import AXES
-from calculators.evaluation_schemas import EvaluationSpec
+from calculators.evaluation_schemas import EvaluationSpec, trains_from
 from calculators.schemas import Camera, Modifier, Mount, Telescope
+from calculators.train_elements import MAX_TRAIN_ELEMENTS, TrainElement, train_element
 from calculators.sweep import EvaluationError, TooManyCombinations
 
 #: The request's list of each kind of component, in the engine's axis order.
-LISTS = {"telescope": "telescopes", "camera": "cameras", "modifier": "modifiers", "mount": "mounts"}
-MODELS = {"telescope": Telescope, "camera": Camera, "modifier": Modifier, "mount": Mount}
+LISTS = {"telescope": "telescopes", "camera": "cameras", "train": "trains", "mount": "mounts"}
+MODELS = {"telescope": Telescope, "camera": Camera, "mount": Mount}
 
 #: Most rows a front may hold in an answer. Combinations with equal objective values are all on the
 #: front, so ties (one objective that depends on a single kind, identical candidates) can make it
@@ -46,15 +47,26 @@ class EvaluationRequest(EvaluationSpec):
     cameras: list[slot(Camera)] = Field(
         min_length=1, description='Inline cameras or {"id": N} of stored ones you may read.'
     )
-    modifiers: list[slot(Modifier) | None] = Field(
-        default_factory=lambda: [None], min_length=1,
-        description='Inline modifiers, {"id": N} of stored ones, or null for "no modifier"; '
-        "default: none.",
+    modifiers: list[slot(Modifier) | None] | None = Field(
+        default=None, min_length=1, deprecated=True,
+        description="Deprecated (read for one release): each modifier, inline, {\"id\": N} or "
+        "null, becomes a one-element train (null: the empty train).",
+    )
+    trains: list[Annotated[list[slot(TrainElement)], Field(max_length=MAX_TRAIN_ELEMENTS)]] = Field(
+        default_factory=lambda: [[]], min_length=1, validate_default=True,
+        description='Candidate trains, each a list of elements (inline or {"id": N} of stored '
+        "ones), telescope side first; [] is nothing between telescope and camera. Default: [[]].",
     )
     mounts: list[slot(Mount) | None] = Field(
         default_factory=lambda: [None], min_length=1,
         description='Inline mounts, {"id": N} of stored ones, or null for "no mount"; default: none.',
     )
+
+
+    @field_validator("trains")
+    @classmethod
+    def _trains(cls, value: list, info: ValidationInfo) -> list:
+        return trains_from(value, info)
 
 
 def sizes(body: EvaluationRequest) -> tuple[int, ...]:
@@ -72,8 +84,18 @@ def check_size(body: EvaluationRequest, maximum: int) -> None:
         ), counts)
 
 
+def _entries(body: EvaluationRequest, kind: str):
+    """(index, position in the train or None, value) of every candidate of one kind."""
+    for i, value in enumerate(getattr(body, LISTS[kind])):
+        if kind == "train":
+            for j, element in enumerate(value):
+                yield i, j, element
+        else:
+            yield i, None, value
+
+
 def needs_database(body: EvaluationRequest) -> bool:
-    return any(isinstance(v, Ref) for kind in AXES for v in getattr(body, LISTS[kind]))
+    return any(isinstance(v, Ref) for kind in AXES for _, _, v in _entries(body, kind))
 
 
 def inline_components(body: EvaluationRequest) -> Components:
@@ -87,24 +109,32 @@ def resolve_components(
     """The component lists with every ``{"id": N}`` replaced by the stored item, and the stored id
     of each entry (None for inline ones). 422 naming each id the caller may not read."""
     refs = [
-        (kind, i, value)
+        (kind, i, j, value)
         for kind in AXES
-        for i, value in enumerate(getattr(body, LISTS[kind]))
+        for i, j, value in _entries(body, kind)
         if isinstance(value, Ref)
     ]
     with Session(engine) as session:
         specs = resolve_slots(session, principal, [
-            SlotRequest({kind: ref}, loc=(LISTS[kind], i), slot_in_path=False)
-            for kind, i, ref in refs
+            SlotRequest({kind: ref}, loc=(LISTS[kind], i), slot_in_path=False) if j is None else
+            SlotRequest({"train": [ref]}, loc=(LISTS[kind], i, j), slot_in_path=False)
+            for kind, i, j, ref in refs
         ])
-    lists = {kind: list(getattr(body, LISTS[kind])) for kind in AXES}
+    lists = {kind: [list(v) if kind == "train" else v for v in getattr(body, LISTS[kind])]
+             for kind in AXES}
     ids: Ids = {kind: [None] * len(items) for kind, items in lists.items()}
-    for (kind, i, ref), spec in zip(refs, specs):
+    ids["train"] = [[None] * len(train) for train in lists["train"]]
+    for (kind, i, j, ref), spec in zip(refs, specs):
+        where = (LISTS[kind], i) if j is None else (LISTS[kind], i, j)
         try:
-            lists[kind][i] = MODELS[kind].model_validate(spec[kind])
+            if j is None:
+                lists[kind][i] = MODELS[kind].model_validate(spec[kind])
+                ids[kind][i] = ref.id
+            else:
+                lists[kind][i][j] = train_element(spec["train"][0])
+                ids[kind][i][j] = ref.id
         except ValidationError as exc:  # a stored item written under an older schema
-            raise from_validation_error(exc, prefix=(LISTS[kind], i)) from None
-        ids[kind][i] = ref.id
+            raise from_validation_error(exc, prefix=where) from None
     return tuple(lists[kind] for kind in AXES), ids  # type: ignore[return-value]
 
 

@@ -41,7 +41,7 @@ CSV_RESPONSE = {
 @router.post(
     "", response_model=EvaluationResult, operation_id="evaluate_combinations",
     summary="Sweep combinations of candidate equipment",
-    description="Every combination of the telescopes, cameras, modifiers and mounts given is "
+    description="Every combination of the telescopes, cameras, trains and mounts given is "
     "computed with the calculators named in `constraints` and `objectives`; the answer counts "
     "them, lists every Pareto-optimal feasible combination (`front`) and the `limit` best by score "
     "(`top`). Products above the service's maximum (`RIGBENCH_MAX_COMBINATIONS`) are refused.",

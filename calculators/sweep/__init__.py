@@ -4,8 +4,8 @@ Pareto front and a ranking on the objectives — without one Python object per c
 How it works:
 
 1. The component lists become one sweep batch (:meth:`RigBatch.from_components`): telescope columns
-   lie along axis 0, cameras along 1, modifiers along 2, mounts along 3. A calculator's output is
-   computed over the axes it depends on only (a focal ratio over telescopes × modifiers), and
+   lie along axis 0, cameras along 1, trains along 2, mounts along 3. A calculator's output is
+   computed over the axes it depends on only (a focal ratio over telescopes × trains), and
    broadcasting builds the full product only where an output needs all four kinds.
 2. Only the calculators named in the constraints and objectives run, in chunks of whole telescopes
    (at most ``chunk_rows`` combinations each, one telescope at least) to bound memory. A chunk that
@@ -19,7 +19,7 @@ How it works:
 4. Over the feasible combinations: the exact Pareto front of the objectives
    (:mod:`calculators.pareto`; equal objective values are all on the front), found after an exact
    reduction — where an objective varies along axes no other objective does (the price over
-   cameras and mounts, when the exposure time depends on telescope and modifier only), only the
+   cameras and mounts, when the exposure time depends on telescope and train only), only the
    best value along those axes can be on the front.
 5. The ``limit`` best feasible combinations by **score** (lower is better): each objective is
    scaled linearly to 0 at the ideal point (its best feasible value) and 1 at the nadir point (its
@@ -33,7 +33,7 @@ How it works:
 6. The returned rows' values are computed once more on a small one-row-per-combination batch, the
    same way a comparison of those rigs computes them.
 
-Indices order combinations telescope-major: ``(telescope, camera, modifier, mount)`` compared in
+Indices order combinations telescope-major: ``(telescope, camera, train, mount)`` compared in
 that order.
 
 Example::

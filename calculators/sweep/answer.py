@@ -11,7 +11,7 @@ import numpy as np
 from pydantic import BaseModel
 
 from calculators.base import Calculator
-from calculators.batch import AXES, RigBatch
+from calculators.batch import AXES, RigBatch, as_train
 from calculators.evaluation_schemas import (
     Bounds,
     EvaluationResult,
@@ -20,7 +20,7 @@ from calculators.evaluation_schemas import (
     Ids,
     Indices,
 )
-from calculators.schemas import Camera, Modifier, Mount, Telescope
+from calculators.schemas import Camera, Mount, Telescope
 from calculators.sweep.chunks import guarded, row_values
 from calculators.sweep.errors import EvaluationError, FrontTooLarge, TooManyCombinations
 from calculators.sweep.passes import run_passes
@@ -38,7 +38,7 @@ Progress = Callable[[int, int], None]
 def evaluate(
     telescopes: Sequence[Telescope],
     cameras: Sequence[Camera],
-    modifiers: Sequence[Modifier | None] = (None,),
+    trains: Sequence[Any] = ((),),
     mounts: Sequence[Mount | None] = (None,),
     *,
     objectives: Mapping[str, str],
@@ -53,7 +53,10 @@ def evaluate(
     progress: Progress | None = None,
     max_front_rows: int | None = None,
 ) -> EvaluationResult:
-    """Sweep telescopes × cameras × modifiers × mounts; return counts, the front and the top rows.
+    """Sweep telescopes × cameras × trains × mounts; return counts, the front and the top rows.
+
+    A train is a list of elements (``[]``: nothing between telescope and camera); an old
+    :class:`Modifier` or None is read as a one-element or empty train (see :func:`as_train`).
 
     ``calculators`` maps names to calculators (e.g. ``registry.calculators``); ``ids`` optionally
     gives stored ids per kind (``{"telescope": [7, None, ...], ...}``, aligned with the lists);
@@ -65,11 +68,11 @@ def evaluate(
     field, before any heavy work; a calculator that refuses or fails on the components raises
     :class:`CalculatorFailed` (also a :class:`CalculationError`).
     """
-    lists = (list(telescopes), list(cameras), list(modifiers), list(mounts))
+    lists = (list(telescopes), list(cameras), [as_train(t) for t in trains], list(mounts))
     sizes = tuple(len(items) for items in lists)
     for kind, size in zip(AXES, sizes):
         if size == 0:
-            hint = " (null means none)" if kind in ("modifier", "mount") else ""
+            hint = {"train": " ([] means none)", "mount": " (null means none)"}.get(kind, "")
             raise EvaluationError(f"{kind}s: give at least one {kind}{hint}", loc=(f"{kind}s",))
     evaluated = math.prod(sizes)
     if evaluated > max_combinations:
@@ -83,6 +86,8 @@ def evaluate(
         raise EvaluationError(f"limit: must be a whole number ≥ 0, got {limit!r}", loc=("limit",))
     if chunk_rows < 1:
         raise ValueError("chunk_rows must be at least 1")
+    ids = dict(ids or {})
+    ids.setdefault("train", [[None] * len(train) for train in lists[2]])  # one per element
     id_lists = stored_ids(ids, sizes)
     bounds, directions, nullable, plans = plan_calculators(
         constraints or {}, objectives, params or {}, calculators
@@ -148,7 +153,7 @@ def evaluate(
 def evaluate_spec(
     telescopes: Sequence[Telescope],
     cameras: Sequence[Camera],
-    modifiers: Sequence[Modifier | None],
+    trains: Sequence[Any],
     mounts: Sequence[Mount | None],
     spec: EvaluationSpec,
     **options: Any,
@@ -156,7 +161,7 @@ def evaluate_spec(
     """:func:`evaluate` with the choices of a validated request model (``options``: calculators,
     ids, max_combinations, chunk_rows, progress, max_front_rows)."""
     return evaluate(
-        telescopes, cameras, modifiers, mounts,
+        telescopes, cameras, trains, mounts,
         objectives=spec.objectives, constraints=spec.constraints, params=spec.params,
         baseline=spec.baseline, limit=spec.limit, **options,
     )

@@ -39,7 +39,7 @@ def evaluate_chunk(batch, plans, bounds, directions, nullable, start, stop) -> C
     if drop:
         values = {k: v[drop:] if v.shape[0] > 1 else v for k, v in values.items()}
     shape = (stop - start, *batch.shape[1:])
-    # A telescope and modifier giving an effective focal ratio below the physical minimum do not
+    # A telescope and train giving an effective focal ratio below the physical minimum do not
     # make a rig (the Rig schema refuses it), so that combination is never feasible.
     focal_ratio = (batch["focal_length_mm"][start:stop] * batch["train_factor"]
                    / batch["aperture_mm"][start:stop])

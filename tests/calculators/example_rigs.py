@@ -7,7 +7,7 @@ import itertools
 import numpy as np
 from hypothesis import strategies as st
 
-from calculators.batch import RigBatch
+from calculators.batch import RigBatch, as_train
 from calculators.schemas import Camera, Modifier, Mount, Rig, Telescope
 from plugins.runner import run
 
@@ -122,7 +122,7 @@ def assert_sweep_equals_rows(calculator, telescopes, cameras, modifiers=(None,),
     swept = run(calculator, sweep, params)
     assert swept.error is None, swept.error
     for (t, c, m) in itertools.product(range(len(telescopes)), range(len(cameras)), range(len(modifiers))):
-        rig = Rig(name="row", telescope=telescopes[t], camera=cameras[c], modifier=modifiers[m])
+        rig = Rig(name="row", telescope=telescopes[t], camera=cameras[c], train=as_train(modifiers[m]))
         single = outputs(calculator, [rig], params)
         for name, values in swept.values.items():
             got, want = values[t, c, m, 0], single[name][0]

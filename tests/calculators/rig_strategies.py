@@ -12,10 +12,9 @@ import itertools
 import numpy as np
 from hypothesis import strategies as st
 
-from calculators.batch import RigBatch
-from calculators.schemas import (
-    Camera, Design, Modifier, ModifierKind, Mount, MountType, Rig, Telescope,
-)
+from calculators.batch import RigBatch, as_train
+from calculators.schemas import Camera, Design, Mount, MountType, Rig, Telescope
+from calculators.train_elements import train_element
 
 MM_PER_INCH = 25.4  # NIST SP 811 (2008), appendix B: 1 in = 2.54 cm exactly
 KG_PER_POUND = 0.45359237  # NIST SP 811 (2008), appendix B: 1 lb (avoirdupois) exactly
@@ -57,14 +56,62 @@ def telescope_dicts(draw, obstructed: bool | None = None, with_masses: bool | No
 
 
 @st.composite
-def modifier_dicts(draw) -> dict:
-    return {
-        "kind": draw(st.sampled_from([k.value for k in ModifierKind])),
-        "factor": draw(_floats(0.5, 2.5)),  # with f/2 or slower telescopes, never below f/1
+def optic_dicts(draw) -> dict:
+    """A reducer, flattener, corrector or barlow, with or without what it is made for."""
+    kind = draw(st.sampled_from(["reducer", "reducer-flattener", "flattener", "corrector", "barlow"]))
+    # With f/2 or slower telescopes and at most two optics, never below f/1.
+    low, high = {"reducer": (0.7, 1), "reducer-flattener": (0.7, 1), "barlow": (1, 2.5)}.get(kind, (0.9, 1.1))
+    optic = {
+        "kind": kind,
+        "factor": draw(_floats(low, high)),
         "throughput": draw(_maybe(_floats(0.8, 1))),
         "mass_kg": draw(_maybe(_floats(0.05, 1))),
         "price": draw(_maybe(prices)),
+        "designs": draw(st.lists(st.sampled_from([d.value for d in Design]), max_size=2, unique=True)),
+        "image_circle_mm": draw(_maybe(_floats(10, 60))),
+        "backfocus_mm": draw(_maybe(_floats(40, 120))),
+        "optical_length_mm": draw(_maybe(_floats(0, 40))),
     }
+    ratio_min = draw(_maybe(_floats(2, 8)))
+    if ratio_min is not None:
+        optic["focal_ratio_min"] = ratio_min
+        optic["focal_ratio_max"] = ratio_min + draw(_floats(0, 6))
+    return optic
+
+
+@st.composite
+def passive_dicts(draw) -> dict:
+    """A filter, filter wheel, off-axis guider or spacer."""
+    kind = draw(st.sampled_from(["filter", "filter-wheel", "off-axis-guider", "spacer"]))
+    element = {"kind": kind, "mass_kg": draw(_maybe(_floats(0.01, 1))),
+               "price": draw(_maybe(prices)), "image_circle_mm": draw(_maybe(_floats(20, 60)))}
+    if kind == "filter":
+        element["thickness_mm"] = draw(_maybe(_floats(0.5, 5)))
+        element["refractive_index"] = draw(_floats(1.4, 1.8))
+    elif kind == "spacer":
+        element["optical_length_mm"] = draw(_floats(1, 50))
+    else:
+        element["optical_length_mm"] = draw(_maybe(_floats(5, 30)))
+    return element
+
+
+@st.composite
+def train_dicts(draw, max_size: int = 4) -> list[dict]:
+    """An ordered train of up to ``max_size`` elements, at most two with focusing power, in one
+    currency."""
+    optics = draw(st.lists(optic_dicts(), max_size=2))
+    passives = draw(st.lists(passive_dicts(), max_size=max(0, max_size - len(optics))))
+    train = optics + passives
+    currency = next((e["price"]["currency"] for e in train if e.get("price")), None)
+    for e in train:
+        if e.get("price"):
+            e["price"] = {**e["price"], "currency": currency}
+    return train
+
+
+def modifier_dicts():
+    """A single optic (what the old modifier slot held)."""
+    return optic_dicts()
 
 
 @st.composite
@@ -101,11 +148,13 @@ def rig_dicts(draw, obstructed: bool | None = None, complete: bool = False) -> d
             st.builds(lambda m: {"name": "accessory", "mass_kg": m}, _floats(0, 3)), max_size=3
         )),
     }
-    modifier = draw(modifier_dicts() if complete else _maybe(modifier_dicts()))
+    train = draw(train_dicts())
     if complete:
-        modifier["mass_kg"] = modifier["mass_kg"] or 0.2
-    if modifier is not None:
-        rig["modifier"] = modifier
+        train = train or [draw(optic_dicts())]
+        for element in train:
+            element["mass_kg"] = element["mass_kg"] or 0.2
+    if train:
+        rig["train"] = train
     mount = draw(mount_dicts() if complete else _maybe(mount_dicts()))
     if mount is not None:
         rig["mount"] = mount
@@ -130,7 +179,7 @@ _LENGTHS = {
     "geometry": ("payload_arm_mm",),
 }
 _MASSES = {
-    "telescope": ("mass_kg",), "camera": ("mass_kg",), "modifier": ("mass_kg",),
+    "telescope": ("mass_kg",), "camera": ("mass_kg",),
     "mount": ("capacity_kg", "mass_kg"), "geometry": ("counterweight_kg",),
 }
 
@@ -146,6 +195,12 @@ def in_imperial_units(rig: dict) -> dict:
         for name in fields:
             if out.get(part) and out[part].get(name) is not None:
                 out[part][name] = f"{out[part][name] / KG_PER_POUND!r} lb"
+    out["train"] = [
+        {**e, **({"mass_kg": f"{e['mass_kg'] / KG_PER_POUND!r} lb"} if e.get("mass_kg") is not None else {}),
+         **({"optical_length_mm": f"{e['optical_length_mm'] / MM_PER_INCH!r} in"}
+            if e.get("optical_length_mm") is not None else {})}
+        for e in rig.get("train", [])
+    ]
     out["accessories"] = [
         {**a, "mass_kg": f"{a['mass_kg'] / KG_PER_POUND!r} lb"} for a in rig.get("accessories", [])
     ]
@@ -184,11 +239,11 @@ def assert_batch_equals_single_rigs(calculator, rig_list: list[Rig], params=None
         )
 
 
-def assert_sweep_equals_rigs(calculator, telescopes, cameras, modifiers, mounts, baseline, params=None):
+def assert_sweep_equals_rigs(calculator, telescopes, cameras, trains, mounts, baseline, params=None):
     """A sweep batch gives, combination by combination, what one row per combined rig gives."""
-    sweep = RigBatch.from_components(telescopes, cameras, modifiers, mounts, baseline=baseline)
-    combos = itertools.product(telescopes, cameras, modifiers, mounts)
-    rig_list = [Rig(name="combination", telescope=t, camera=c, modifier=m, mount=k)
+    sweep = RigBatch.from_components(telescopes, cameras, trains, mounts, baseline=baseline)
+    combos = itertools.product(telescopes, cameras, trains, mounts)
+    rig_list = [Rig(name="combination", telescope=t, camera=c, train=as_train(m), mount=k)
                 for t, c, m, k in combos]
     flat_baseline = int(np.ravel_multi_index(baseline, sweep.shape))
     rows = compute(calculator, RigBatch.from_rigs(rig_list, baseline=flat_baseline), params)
@@ -201,11 +256,11 @@ def sweeps(draw, max_each: int = 3):
     """Component lists and a baseline index for :meth:`RigBatch.from_components`."""
     telescopes = draw(st.lists(telescope_dicts(), min_size=1, max_size=max_each))
     cameras = draw(st.lists(camera_dicts(), min_size=1, max_size=max_each))
-    modifiers = draw(st.lists(_maybe(modifier_dicts()), min_size=1, max_size=max_each))
+    trains = draw(st.lists(train_dicts(max_size=3), min_size=1, max_size=max_each))
     mounts = draw(st.lists(_maybe(mount_dicts()), min_size=1, max_size=max_each))
     t_models = [Telescope.model_validate(t) for t in telescopes]
     c_models = [Camera.model_validate(c) for c in cameras]
-    m_models = [None if m is None else Modifier.model_validate(m) for m in modifiers]
+    m_models = [[train_element(e) for e in train] for train in trains]
     k_models = [None if k is None else Mount.model_validate(k) for k in mounts]
     sizes = (len(t_models), len(c_models), len(m_models), len(k_models))
     baseline = tuple(draw(st.integers(0, n - 1)) for n in sizes)

@@ -7,7 +7,7 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from calculators.batch import AXES, PRICE_SLOTS, RigBatch
+from calculators.batch import AXES, PRICE_SLOTS, RigBatch, as_train
 from calculators.schemas import Camera, Modifier, Mount, Rig, Telescope
 from rig_strategies import rig_lists, sweeps
 
@@ -103,7 +103,7 @@ def test_relative_is_one_at_the_baseline_and_ratios_multiply_through_a_third_rig
 def test_sweep_columns_equal_the_comparison_columns_of_every_combination(sweep):
     telescopes, cameras, modifiers, mounts, baseline = sweep
     batch = RigBatch.from_components(telescopes, cameras, modifiers, mounts, baseline=baseline)
-    rigs = [Rig(name="c", telescope=t, camera=c, modifier=m, mount=k)
+    rigs = [Rig(name="c", telescope=t, camera=c, train=as_train(m), mount=k)
             for t in telescopes for c in cameras for m in modifiers for k in mounts]
     flat = RigBatch.from_rigs(rigs)
     assert set(batch) == set(flat)

@@ -21,6 +21,7 @@ from rig_strategies import (
     sweeps,
 )
 
+from calculators.train_elements import train_factor
 from calculators.base import NoParams
 from calculators.batch import RigBatch
 from calculators.builtin.etendue import DEG2_PER_SR, Etendue, rectangle_solid_angle_sr
@@ -51,7 +52,7 @@ def outputs(*rig_list, baseline=0):
 def test_etendue_is_conserved_aperture_area_times_sky_angle_equals_detector_area_times_beam_angle(r):
     # Welford & Winston (1989) ch. 2: A_aperture·Ω_sky = A_detector·Ω_beam, in the small-angle
     # (paraxial) limit where Ω_beam = π/4·(D/f)² and the sensor is small beside f.
-    f = r.telescope.focal_length_mm * (r.modifier.factor if r.modifier else 1)
+    f = r.telescope.focal_length_mm * train_factor(r.train)
     width = r.camera.width_px * r.camera.pixel_size_um * 1e-3
     height = r.camera.height_px * r.camera.pixel_size_um * 1e-3
     half_diagonal_over_f = math.hypot(width, height) / (2 * f)
@@ -101,7 +102,7 @@ def test_field_etendue_depends_on_the_beam_not_the_scale(r, k):
 @given(rigs())
 @settings(deadline=None)
 def test_pixel_etendue_times_pixel_count_approaches_field_etendue_for_small_fields(r):
-    f = r.telescope.focal_length_mm * (r.modifier.factor if r.modifier else 1)
+    f = r.telescope.focal_length_mm * train_factor(r.train)
     half_w = r.camera.width_px * r.camera.pixel_size_um * 1e-3 / (2 * f)
     half_h = r.camera.height_px * r.camera.pixel_size_um * 1e-3 / (2 * f)
     out = outputs(r)

@@ -63,7 +63,7 @@ def test_mount_geometry_modifier_and_accessory_masses_accept_unit_strings():
         geometry={"payload_arm_mm": "1 ft", "counterweight_kg": "10 lb"},
     )
     model = Rig.model_validate(data)
-    assert model.modifier.mass_kg == pytest.approx(0.3, rel=1e-14)
+    assert model.train[0].mass_kg == pytest.approx(0.3, rel=1e-14)
     assert model.mount.capacity_kg == pytest.approx(44 * KG_PER_POUND, rel=1e-14)
     assert model.accessories[0].mass_kg == pytest.approx(KG_PER_POUND, rel=1e-14)
     assert model.geometry.payload_arm_mm == pytest.approx(12 * MM_PER_INCH, rel=1e-14)
@@ -75,8 +75,11 @@ def test_mount_geometry_modifier_and_accessory_masses_accept_unit_strings():
 def test_unit_strings_give_the_same_rig_as_canonical_numbers(data):
     canonical = Rig.model_validate(data)
     imperial = Rig.model_validate(in_imperial_units(data))
-    for part in ("telescope", "camera", "modifier", "mount", "geometry"):
-        a, b = getattr(canonical, part), getattr(imperial, part)
+    pairs = [(part, getattr(canonical, part), getattr(imperial, part))
+             for part in ("telescope", "camera", "mount", "geometry")]
+    pairs += [(f"train.{i}", a, b) for i, (a, b) in enumerate(zip(canonical.train, imperial.train))]
+    assert len(canonical.train) == len(imperial.train)
+    for part, a, b in pairs:
         if a is None:
             assert b is None
             continue
@@ -131,12 +134,14 @@ def test_focal_ratio_below_half_is_refused_on_the_focal_length():
     assert error_locs(info) == [("focal_length_mm",)]
 
 
-def test_modifier_that_brings_the_focal_ratio_below_half_is_refused():
-    data = rig(modifier={"kind": "reducer", "factor": 0.2})
+@pytest.mark.parametrize("slot", ["train", "modifier"])
+def test_a_train_that_brings_the_focal_ratio_below_half_is_refused(slot):
+    reducer = {"kind": "reducer", "factor": 0.2}
+    data = rig(**{slot: [reducer] if slot == "train" else reducer})
     data["telescope"]["focal_length_mm"] = 400  # f/2 × 0.2 = f/0.4
     with pytest.raises(ValidationError, match="focal ratio of 0.4") as info:
         Rig.model_validate(data)
-    assert error_locs(info) == [("modifier",)]
+    assert error_locs(info) == [("train",)]  # the old modifier is read as the train
 
 
 @pytest.mark.parametrize("part", ["telescope", "camera", "modifier", "mount", "accessory", "geometry",

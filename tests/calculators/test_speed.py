@@ -18,7 +18,7 @@ from rig_strategies import (
 )
 
 from calculators.base import NoParams
-from calculators.batch import RigBatch
+from calculators.batch import RigBatch, as_train
 from calculators.builtin.speed import Speed
 from calculators.schemas import Rig
 
@@ -28,12 +28,13 @@ TIME_FACTORS = ("time_factor_per_pixel", "time_factor_per_arcsec2")
 
 def rig(aperture_mm, focal_length_mm, pixel_um=3.76, obstruction_mm=0.0, throughput=0.9,
         modifier=None) -> Rig:
+    """``modifier``: one element, or a whole train (a list)."""
     return Rig(
         name="rig",
         telescope={"aperture_mm": aperture_mm, "focal_length_mm": focal_length_mm,
                    "obstruction_mm": obstruction_mm, "throughput": throughput},
         camera={"pixel_size_um": pixel_um, "width_px": 4000, "height_px": 3000},
-        modifier=modifier,
+        train=as_train(modifier),
     )
 
 
@@ -52,9 +53,9 @@ apertures = st.floats(50, 500)
 def test_scaling_aperture_and_focal_length_together_leaves_focal_ratio_and_time_factor_per_pixel_unchanged(r, k):
     t = r.telescope
     plain = rig(t.aperture_mm, t.focal_length_mm, r.camera.pixel_size_um, t.obstruction_mm,
-                t.effective_throughput, r.modifier)
+                t.effective_throughput, r.train)
     scaled = rig(t.aperture_mm * k, t.focal_length_mm * k, r.camera.pixel_size_um,
-                 t.obstruction_mm * k, t.effective_throughput, r.modifier)
+                 t.obstruction_mm * k, t.effective_throughput, r.train)
     out = outputs(plain, scaled)
     # Same formula on scaled inputs: only rounding differs, 1e-12 relative.
     assert out["focal_ratio"][1] == pytest.approx(out["focal_ratio"][0], rel=1e-12)

@@ -17,6 +17,7 @@ from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 from sweep_stand_ins import STAND_INS, Broken, Misshapen
 
+from calculators.batch import as_train
 from calculators.builtin.light_grasp import LightGrasp
 from calculators.errors import CalculationError, RigbenchError
 from calculators.evaluation_schemas import EvaluationResult, InlineEvaluationRequest
@@ -108,7 +109,7 @@ def by_comparison(lists, baseline, keys, params):
     """Values per key per combination (telescope-major order), one rig per row via compare()."""
     combos = combinations(lists)
     rigs = [
-        Rig(name=f"rig {n}", telescope=lists[0][t], camera=lists[1][c], modifier=lists[2][m],
+        Rig(name=f"rig {n}", telescope=lists[0][t], camera=lists[1][c], train=as_train(lists[2][m]),
             mount=lists[3][l])
         for n, (t, c, m, l) in enumerate(combos)
     ]
@@ -169,7 +170,7 @@ def reference(combos, values, constraints, objectives, limit):
 
 
 def as_indices(row):
-    return (row.indices.telescope, row.indices.camera, row.indices.modifier, row.indices.mount)
+    return (row.indices.telescope, row.indices.camera, row.indices.train, row.indices.mount)
 
 
 @settings(max_examples=60, deadline=None, suppress_health_check=[HealthCheck.too_slow])
@@ -241,7 +242,7 @@ class ShapeSpy(LightGrasp):
 
     def compute(self, batch, params):
         self.seen.append((batch.shape, batch["aperture_mm"].shape, batch["pixel_size_um"].shape,
-                          batch["modifier_factor"].shape, batch["capacity_kg"].shape))
+                          batch["train_factor"].shape, batch["capacity_kg"].shape))
         return super().compute(batch, params)
 
 
@@ -285,7 +286,7 @@ def test_a_combination_the_rig_schema_refuses_is_never_feasible():
     result = evaluate([scope], [camera], [None, reducer],
                       objectives={"optics.focal_ratio": "min"}, calculators=CALCULATORS)
     assert (result.evaluated, result.feasible) == (2, 1)
-    assert [r.indices.modifier for r in result.front] == [0]
+    assert [r.indices.train for r in result.front] == [0]
 
 
 def test_equal_objective_values_are_all_on_the_front():
@@ -313,16 +314,16 @@ def test_inline_request_model_runs_and_the_result_validates():
         "telescopes": [{"aperture_mm": "8 in", "focal_length_mm": 1000, "price":
                         {"amount": 900, "currency": "EUR"}}],
         "cameras": [{"pixel_size_um": 3.76, "width_px": 6248, "height_px": 4176}],
-        "modifiers": [None, {"kind": "reducer", "factor": 0.8}],
+        "trains": [[], [{"kind": "reducer", "factor": 0.8}]],
         "mounts": [{"capacity_kg": 15, "mass_kg": 12}],
         "constraints": {"optics.pixel_scale_arcsec": {"min": 0.5}},
         "objectives": {"price.total_price": "min", "optics.time_factor": "min"},
         "params": {},
         "limit": 5,
     })
-    result = evaluate_spec(request.telescopes, request.cameras, request.modifiers, request.mounts,
+    result = evaluate_spec(request.telescopes, request.cameras, request.trains, request.mounts,
                            request, calculators=CALCULATORS,
-                           ids={"telescope": [42], "camera": [None], "modifier": [None, None],
+                           ids={"telescope": [42], "camera": [None], "train": [[], [None]],
                                 "mount": [7]})
     assert EvaluationResult.model_validate(result.model_dump()) == result
     assert result.evaluated == 2 and result.feasible == 2
@@ -385,7 +386,7 @@ def run(**changes):
          "not an index into the 2 telescopes"),
         ({"baseline": (0, 0)}, EvaluationError, ("baseline",), "one index per kind"),
         ({"lists": (SCOPES, [])}, EvaluationError, ("cameras",), "at least one camera"),
-        ({"lists": (SCOPES, CAMS, [])}, EvaluationError, ("modifiers",), "null means none"),
+        ({"lists": (SCOPES, CAMS, [])}, EvaluationError, ("trains",), "[] means none"),
         ({"limit": -1}, EvaluationError, ("limit",), "≥ 0"),
         ({"max_combinations": 1}, TooManyCombinations, (), "2 × 1 × 1 × 1 = 2 combinations"),
         ({"objectives": {"broken.value": "min"}}, CalculatorFailed, ("objectives", "broken.value"),

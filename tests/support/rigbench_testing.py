@@ -8,7 +8,8 @@ CAMERA = {"name": "mono camera 3.8 um", "pixel_size_um": 3.8, "width_px": 6000, 
 MODIFIER = {"name": "reducer 0.8x", "kind": "reducer", "factor": 0.8}
 MOUNT = {"name": "german-equatorial 20 kg", "type": "german-equatorial", "capacity_kg": 20}
 
-BODIES = {"telescopes": TELESCOPE, "cameras": CAMERA, "modifiers": MODIFIER, "mounts": MOUNT}
+BODIES = {"telescopes": TELESCOPE, "cameras": CAMERA, "train-elements": MODIFIER, "modifiers": MODIFIER,
+          "mounts": MOUNT}
 
 INLINE_RIG = {"name": "inline rig", "telescope": TELESCOPE, "camera": CAMERA}
 

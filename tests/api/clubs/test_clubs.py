@@ -95,7 +95,7 @@ def test_equipment_shows_the_clubs_public_items_only(client, club, alice):
         body = client.get("/v1/clubs/lakeside-astro/equipment", headers=headers).json()
         assert [t["id"] for t in body["telescopes"]] == [public]
         assert [c["id"] for c in body["cameras"]] == [camera]
-        assert body["modifiers"] == [] and body["mounts"] == [] and body["complete"] is True
+        assert body["train_elements"] == body["modifiers"] == [] and body["mounts"] == [] and body["complete"] is True
         assert body["telescopes"][0]["owner"] == "lakeside-astro"
 
 
@@ -112,12 +112,12 @@ def test_equipment_says_when_a_kind_is_cut_short(app, settings, club):
 
 def test_equipment_as_csv_one_row_per_item_with_its_kind(client, club):
     scope = store(client, club, "telescopes", price={"amount": 900, "currency": "EUR"})
-    store(client, club, "modifiers")
+    store(client, club, "train-elements")
     table = rows(client.get("/v1/clubs/lakeside-astro/equipment", headers={"Accept": "text/csv"}))
-    assert [r["equipment"] for r in table] == ["telescope", "modifier"]
+    assert [r["equipment"] for r in table] == ["telescope", "train element"]
     assert table[0]["id"] == str(scope) and float(table[0]["aperture_mm"]) == TELESCOPE["aperture_mm"]
     assert float(table[0]["price.amount"]) == 900 and table[0]["price.currency"] == "EUR"
-    # The modifier's own "kind" field keeps its column; the row's kind is "equipment".
+    # The train element's own "kind" field keeps its column; the row's kind is "equipment".
     assert table[1]["kind"] == BODIES["modifiers"]["kind"] and table[1]["aperture_mm"] == ""
 
 
@@ -146,7 +146,7 @@ def test_rigs_as_csv_name_their_components(client, club):
     assert row["telescope"] == TELESCOPE["name"] and row["telescope_id"].isdigit()
     # The camera is inline: a name but no stored id.
     assert row["camera"] == CAMERA["name"] and row["camera_id"] == ""
-    assert row["modifier"] == "" and row["accessories"] == "guide scope"
+    assert row["train"] == "" and row["train_ids"] == "" and row["accessories"] == "guide scope"
 
 
 @pytest.mark.parametrize("params, field", [({"limit": 0}, "limit"), ({"offset": -1}, "offset")])

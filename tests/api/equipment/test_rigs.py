@@ -113,9 +113,9 @@ def test_a_change_that_would_break_a_rig_is_refused(client, alice):
 
 def test_rig_cross_field_errors_name_the_slot(client, alice):
     response = client.post("/v1/rigs", json={
-        "name": "impossible", "telescope": TELESCOPE, "camera": CAMERA, "modifier": {"kind": "reducer", "factor": 0.05},
+        "name": "impossible", "telescope": TELESCOPE, "camera": CAMERA, "train": [{"kind": "reducer", "factor": 0.05}],
     }, headers=alice.headers)
-    assert_problem(response, 422, "modifier")
+    assert_problem(response, 422, "train")
 
 
 def test_rig_list_resolves_every_rig(client, alice):

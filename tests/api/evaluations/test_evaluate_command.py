@@ -39,7 +39,7 @@ REQUEST = {
         {"name": "small-pixel camera", "pixel_size_um": 2.4, "width_px": 3000, "height_px": 2000,
          "mass_kg": 0.4, "price": {"amount": 500, "currency": "EUR"}},
     ],
-    "modifiers": [None, {**MODIFIER, "mass_kg": 0.3, "price": {"amount": 250, "currency": "EUR"}}],
+    "trains": [[], [{**MODIFIER, "mass_kg": 0.3, "price": {"amount": 250, "currency": "EUR"}}]],
     "mounts": [{**MOUNT, "mass_kg": 18, "price": {"amount": 1500, "currency": "EUR"}},
                {"name": "light mount 10 kg", "capacity_kg": 10, "mass_kg": 8,
                 "price": {"amount": 700, "currency": "EUR"}}],
@@ -51,7 +51,7 @@ REQUEST = {
 
 def engine_answer(body):
     spec = InlineEvaluationRequest.model_validate(body)
-    return evaluate_spec(spec.telescopes, spec.cameras, spec.modifiers, spec.mounts, spec,
+    return evaluate_spec(spec.telescopes, spec.cameras, spec.trains, spec.mounts, spec,
                          calculators=load_registry().calculators).model_dump(mode="json")
 
 
@@ -87,9 +87,11 @@ def test_in_process_prints_the_engine_s_front_as_a_table(request_file, capsys):
     rows = table_rows(out)
     assert len(rows) == len(expected["front"])
     for line, row in zip(rows, expected["front"]):
-        names = [REQUEST[f"{kind}s"][row["indices"][kind]] for kind in ("telescope", "camera", "modifier", "mount")]
+        names = [REQUEST[f"{kind}s"][row["indices"][kind]] for kind in ("telescope", "camera", "mount")]
         for entry in names:
             assert (entry or {"name": "none"})["name"] in line
+        train = REQUEST["trains"][row["indices"]["train"]]
+        assert (" + ".join(e["name"] for e in train) or "none") in line
         assert f"{row['values']['cost.total_price']:.6g}" in line
     # The payload calculator's safety cautions go with any answer that used it.
     assert "Caution (payload)" in out
@@ -161,7 +163,7 @@ def test_the_product_limit_setting_applies_in_process(request_file, capsys, monk
 def test_the_front_table_names_stored_equipment_by_id_and_cuts_long_fronts():
     answer = {
         "evaluated": 3, "feasible": 3, "units": {"x.y": "mm"}, "cautions": {},
-        "front": [{"indices": {"telescope": i, "camera": 0, "modifier": 0, "mount": 0},
+        "front": [{"indices": {"telescope": i, "camera": 0, "train": 0, "mount": 0},
                    "values": {"x.y": float(i)}, "score": None} for i in range(3)],
         "top": [],
     }

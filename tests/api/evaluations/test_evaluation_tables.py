@@ -25,8 +25,8 @@ def test_front_then_top_then_baseline_with_units_and_empty_cells_for_null():
     text = evaluation_csv(result)
     assert text.endswith("\r\n")  # RFC 4180 line breaks
     assert list(csv.reader(io.StringIO(text))) == [
-        ["set", "rank", "telescope", "camera", "modifier", "mount", "telescope_id", "camera_id",
-         "modifier_id", "mount_id", "light.area [mm^2]", "cost.price", "score"],
+        ["set", "rank", "telescope", "camera", "train", "mount", "telescope_id", "camera_id",
+         "train_id", "mount_id", "light.area [mm^2]", "cost.price", "score"],
         ["front", "1", "0", "0", "0", "0", "7", "", "", "", "2.5", "", "0.0"],
         ["front", "2", "2", "0", "0", "0", "", "", "", "", "1.0", "100.0", "1.0"],
         ["top", "1", "0", "0", "0", "0", "7", "", "", "", "2.5", "", "0.0"],

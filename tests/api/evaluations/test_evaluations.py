@@ -43,6 +43,8 @@ MODIFIERS = [
     {"name": "barlow 2x", "kind": "barlow", "factor": 2.0, "mass_kg": 0.2,
      "price": {"amount": 120, "currency": "EUR"}},
 ]
+#: The same optics as one-element trains ([] is nothing between telescope and camera).
+TRAINS = [[] if m is None else [m] for m in MODIFIERS]
 MOUNTS = [
     {**MOUNT, "mass_kg": 18, "price": {"amount": 1500, "currency": "EUR"}},  # rated 20 kg
     {"name": "light mount 10 kg", "type": "german-equatorial", "capacity_kg": 10, "mass_kg": 8,
@@ -51,12 +53,12 @@ MOUNTS = [
 ]
 CONSTRAINTS = {"sampling.pixel_scale_arcsec": {"min": 0.6, "max": 2.5}, "payload.capacity_fraction": {"max": 0.8}}
 OBJECTIVES = {"speed.time_factor_per_arcsec2": "min", "cost.total_price": "min"}
-AXES = ("telescope", "camera", "modifier", "mount")
-LISTS = ("telescopes", "cameras", "modifiers", "mounts")
+AXES = ("telescope", "camera", "train", "mount")
+LISTS = ("telescopes", "cameras", "trains", "mounts")
 
 
 def request(**changes):
-    return {"telescopes": TELESCOPES, "cameras": CAMERAS, "modifiers": MODIFIERS, "mounts": MOUNTS,
+    return {"telescopes": TELESCOPES, "cameras": CAMERAS, "trains": TRAINS, "mounts": MOUNTS,
             "constraints": CONSTRAINTS, "objectives": OBJECTIVES, **changes}
 
 
@@ -76,7 +78,7 @@ def compared(client, body):
     combos = combinations(body)
     keys = list(dict.fromkeys([*body.get("constraints", {}), *body["objectives"]]))
     rigs = [{"name": f"combination {n}", "telescope": body["telescopes"][t], "camera": body["cameras"][c],
-             "modifier": body["modifiers"][m], "mount": body["mounts"][l]}
+             "train": body["trains"][m], "mount": body["mounts"][l]}
             for n, (t, c, m, l) in enumerate(combos)]
     answer = client.post("/v1/comparisons", json={
         "rigs": rigs, "calculators": sorted({k.split(".")[0] for k in keys}), "baseline": 0,
@@ -128,7 +130,9 @@ def test_the_answer_has_the_contract_shape(client):
     for row in body["front"] + body["top"] + [body["baseline"]]:
         assert set(row) == {"indices", "ids", "values", "score"}
         assert set(row["indices"]) == set(AXES) and set(row["ids"]) == set(AXES)
-        assert all(v is None for v in row["ids"].values())  # everything inline
+        # everything inline: no stored ids (one null per element of the train)
+        assert all(v is None for k, v in row["ids"].items() if k != "train")
+        assert row["ids"]["train"] == [None] * len(TRAINS[row["indices"]["train"]])
         assert set(row["values"]) == keys
     assert body["units"] == {"sampling.pixel_scale_arcsec": "arcsec", "payload.capacity_fraction": "",
                              "speed.time_factor_per_arcsec2": "", "cost.total_price": "EUR"}
@@ -173,9 +177,9 @@ def test_values_follow_the_published_formulas(client):
 
 
 def test_the_answer_is_the_engine_s_answer(client, app):
-    body = request(limit=7, baseline={"telescope": 2, "camera": 1, "modifier": 0, "mount": 1})
+    body = request(limit=7, baseline={"telescope": 2, "camera": 1, "train": 0, "mount": 1})
     spec = InlineEvaluationRequest.model_validate(body)
-    expected = evaluate_spec(spec.telescopes, spec.cameras, spec.modifiers, spec.mounts, spec,
+    expected = evaluate_spec(spec.telescopes, spec.cameras, spec.trains, spec.mounts, spec,
                              calculators=app.state.registry.calculators)
     assert evaluation(client, body) == expected.model_dump(mode="json")
 
@@ -184,8 +188,9 @@ def test_relative_outputs_are_against_the_baseline(client):
     # Throughputs stated, so the expected ratios need no per-design default.
     telescopes = [{**t, "throughput": tau} for t, tau in zip(TELESCOPES, (0.8, 0.9, 0.85))]
     modifiers = [None, {**MODIFIERS[1], "throughput": 0.96}, {**MODIFIERS[2], "throughput": 0.95}]
-    baseline = {"telescope": 1, "camera": 0, "modifier": 2, "mount": 0}
-    body = evaluation(client, request(telescopes=telescopes, modifiers=modifiers, baseline=baseline,
+    baseline = {"telescope": 1, "camera": 0, "train": 2, "mount": 0}
+    trains = [[] if m is None else [m] for m in modifiers]
+    body = evaluation(client, request(telescopes=telescopes, trains=trains, baseline=baseline,
                                       constraints={}, limit=1000))
     assert indices(body["baseline"]) == (1, 0, 2, 0) and len(body["top"]) == body["evaluated"]
 
@@ -203,15 +208,24 @@ def test_relative_outputs_are_against_the_baseline(client):
     assert body["baseline"]["values"]["speed.time_factor_per_arcsec2"] == pytest.approx(1.0, rel=1e-12)
 
 
-def test_null_modifier_means_none_and_null_mount_is_no_mount(client):
+def test_an_empty_train_means_none_and_null_mount_is_no_mount(client):
     body = evaluation(client, request(
-        telescopes=TELESCOPES[:1], cameras=CAMERAS[:1], modifiers=[None, MODIFIERS[1]], mounts=[None],
-        constraints={}, objectives={"speed.effective_focal_length_mm": "max"}, limit=10,
+        telescopes=TELESCOPES[:1], cameras=CAMERAS[:1], trains=[[], TRAINS[1], TRAINS[1] + TRAINS[2]],
+        mounts=[None], constraints={}, objectives={"speed.effective_focal_length_mm": "max"}, limit=10,
     ))
-    by_modifier = {row["indices"]["modifier"]: row["values"]["speed.effective_focal_length_mm"] for row in body["top"]}
-    # No modifier leaves the telescope's focal length; a 0.8x reducer multiplies it by 0.8.
-    assert by_modifier == pytest.approx({0: 1000.0, 1: 800.0}, rel=1e-12)
-    assert body["evaluated"] == 2
+    by_train = {row["indices"]["train"]: row["values"]["speed.effective_focal_length_mm"] for row in body["top"]}
+    # An empty train leaves the telescope's focal length; a 0.8x reducer multiplies it by 0.8, and
+    # a 2x barlow behind it by 2 again (the effective focal length is the product of the factors).
+    assert by_train == pytest.approx({0: 1000.0, 1: 800.0, 2: 1600.0}, rel=1e-12)
+    assert body["evaluated"] == 3
+
+
+def test_the_old_modifiers_list_is_read_as_one_element_trains(client):
+    old = request(modifiers=MODIFIERS, baseline={"telescope": 1, "modifier": 2})
+    del old["trains"]
+    new = request(baseline={"telescope": 1, "train": 2})
+    assert evaluation(client, old) == evaluation(client, new)
+    assert_problem(client.post("/v1/evaluations", json={**new, "modifiers": MODIFIERS}), 422, "trains")
 
 
 def test_modifiers_and_mounts_default_to_none(client):
@@ -225,18 +239,18 @@ def test_modifiers_and_mounts_default_to_none(client):
 def test_stored_equipment_is_resolved_and_its_ids_returned(client, alice):
     scope = client.post("/v1/telescopes", json=TELESCOPES[1], headers=alice.headers).json()
     camera = client.post("/v1/cameras", json={**CAMERAS[0], "visibility": "public"}, headers=alice.headers).json()
-    reducer = client.post("/v1/modifiers", json=MODIFIERS[1], headers=alice.headers).json()
+    reducer = client.post("/v1/train-elements", json=MODIFIERS[1], headers=alice.headers).json()
     mount = client.post("/v1/mounts", json=MOUNTS[0], headers=alice.headers).json()
     stored = request(
         telescopes=[TELESCOPES[0], {"id": scope["id"]}], cameras=[{"id": camera["id"]}, CAMERAS[1]],
-        modifiers=[None, {"id": reducer["id"]}], mounts=[{"id": mount["id"]}, None], limit=1000,
+        trains=[[], [{"id": reducer["id"]}]], mounts=[{"id": mount["id"]}, None], limit=1000,
     )
-    inline = request(telescopes=TELESCOPES[:2], cameras=CAMERAS, modifiers=MODIFIERS[:2], mounts=[MOUNTS[0], None],
+    inline = request(telescopes=TELESCOPES[:2], cameras=CAMERAS, trains=TRAINS[:2], mounts=[MOUNTS[0], None],
                      limit=1000)
     got = evaluation(client, stored, headers=alice.headers)
     want = evaluation(client, inline)
     ids = {"telescope": [None, scope["id"]], "camera": [camera["id"], None],
-           "modifier": [None, reducer["id"]], "mount": [mount["id"], None]}
+           "train": [[], [reducer["id"]]], "mount": [mount["id"], None]}
     for row in got["front"] + got["top"] + [got["baseline"]]:
         assert row["ids"] == {kind: ids[kind][row["indices"][kind]] for kind in AXES}
     # Stored or inline, the same equipment gives the same answer.
@@ -250,10 +264,10 @@ def test_equipment_the_caller_may_not_read_is_refused_naming_each_entry(client, 
     private = client.post("/v1/telescopes", json=TELESCOPES[1], headers=alice.headers).json()
     public = client.post("/v1/mounts", json={**MOUNTS[0], "visibility": "public"}, headers=alice.headers).json()
     body = request(telescopes=[TELESCOPES[0], {"id": private["id"]}], mounts=[{"id": public["id"]}, {"id": 99999}],
-                   modifiers=[None, {"id": 0}])
+                   trains=[[], [{"id": 0}]])
     # An id below 1 is refused by validation; the rest by the lookup.
-    assert_problem(client.post("/v1/evaluations", json=body), 422, "modifiers.1.id")
-    body["modifiers"] = [None]
+    assert_problem(client.post("/v1/evaluations", json=body), 422, "trains.1.0.id")
+    body["trains"] = [[]]
     for headers in ({}, bob.headers):
         problem = assert_problem(client.post("/v1/evaluations", json=body, headers=headers), 422,
                                  "telescopes.1.id", "mounts.1.id")
@@ -274,7 +288,7 @@ def test_an_unknown_key_is_a_401(client):
 @pytest.mark.parametrize(("changes", "field", "title"), [
     ({"telescopes": []}, "telescopes", "Invalid input"),
     ({"cameras": []}, "cameras", "Invalid input"),
-    ({"modifiers": []}, "modifiers", "Invalid input"),
+    ({"trains": []}, "trains", "Invalid input"),
     ({"mounts": []}, "mounts", "Invalid input"),
     ({"objectives": {}}, "objectives", "Invalid evaluation"),
     ({"objectives": {"speed.time_factor_per_arcsec2": "fastest"}}, "objectives.speed.time_factor_per_arcsec2",
@@ -333,7 +347,7 @@ def test_the_default_maximum_is_five_million(client, app):
     assert app.state.settings.max_combinations == 5_000_000
     # 100 x 100 x 50 x 11 = 5.5 million combinations: refused without computing.
     body = request(telescopes=TELESCOPES[:1] * 100, cameras=CAMERAS[:1] * 100,
-                   modifiers=[None] * 50, mounts=[None] * 11)
+                   trains=[[]] * 50, mounts=[None] * 11)
     problem = assert_problem(client.post("/v1/evaluations", json=body), 422, "telescopes")
     assert "5,500,000" in problem["detail"] and "5,000,000" in problem["detail"]
 
@@ -438,7 +452,12 @@ def test_csv_is_the_same_answer_as_a_table(client, alice):
     assert [line["set"] for line in lines] == [name for name, _ in expected]
     for line, (name, row) in zip(lines, expected):
         assert {kind: int(line[kind]) for kind in AXES} == row["indices"]
-        assert {kind: (int(line[f"{kind}_id"]) if line[f"{kind}_id"] else None) for kind in AXES} == row["ids"]
+        def stored(kind, cell):
+            if kind == "train":  # one per element, "inline" for an inline one
+                return [None if x == "inline" else int(x) for x in cell.split(";")] if cell else []
+            return int(cell) if cell else None
+
+        assert {kind: stored(kind, line[f"{kind}_id"]) for kind in AXES} == row["ids"]
         for key, value in row["values"].items():
             unit = data["units"][key]
             cell = line[f"{key} [{unit}]" if unit else key]

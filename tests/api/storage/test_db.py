@@ -31,7 +31,7 @@ def test_migrations_go_down_and_up_again(app):
     command.downgrade(db.alembic_config(engine), "base")
     assert set(inspect(engine).get_table_names()) <= {"alembic_version"}
     db.upgrade(engine)
-    assert {"accounts", "api_keys", "telescopes", "cameras", "modifiers", "mounts", "rigs"} <= set(
+    assert {"accounts", "api_keys", "telescopes", "cameras", "train_elements", "mounts", "rigs"} <= set(
         inspect(engine).get_table_names()
     )
 
