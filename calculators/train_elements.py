@@ -314,6 +314,8 @@ TAG_PREFIX = "kind="
 
 def element_tag(value: Any) -> str | None:
     kind = value.get("kind") if isinstance(value, dict) else getattr(value, "kind", None)
+    if not isinstance(kind, str):  # null, a number, an object...: no kind this union knows
+        return None
     kind = KIND_ALIASES.get(kind, kind)
     try:
         return TAG_PREFIX + ElementKind(kind).value
