@@ -12,6 +12,7 @@ from typing import Annotated, Any
 
 from pydantic import BaseModel, ConfigDict, Discriminator, Field, Tag, create_model, field_validator
 
+from api.http.problems import FieldError
 from api.storage.models import AccountKind, KeyScope, Visibility
 from calculators.schemas import (
     Accessory,
@@ -72,6 +73,16 @@ class ItemMeta(BaseModel):
     version: int = Field(description="Starts at 1, grows by one on each change; the ETag carries it.")
     created_at: datetime
     updated_at: datetime
+    invalid: bool = Field(
+        default=False,
+        description="True when the stored item no longer meets the current schema (limits tightened "
+        "since it was stored, an old migration, a manual edit): its values are shown as stored, "
+        "`invalid_reasons` names each field to fix, and a PATCH or PUT that fixes them repairs it. "
+        "Comparisons skip an invalid rig and say why.",
+    )
+    invalid_reasons: list[FieldError] = Field(
+        default_factory=list, description="Why the item is invalid, one entry per field; empty when it is valid."
+    )
 
 
 class ListMeta(BaseModel):
@@ -152,7 +163,8 @@ RigUpdate = create_model(
 class RigPublic(ItemMeta, RigSlots):
     model_config = ConfigDict(extra="ignore")
 
-    resolved: Rig = Field(description="The rig with every stored component filled in.")
+    resolved: Rig = Field(description="The rig with every stored component filled in (as stored, "
+                          "when `invalid`).")
 
 
 class RigList(ListMeta):
