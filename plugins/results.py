@@ -12,11 +12,21 @@ class OutputValues(BaseModel):
     values: list[Value] = Field(description="One value per rig, in request order; null where undefined.")
 
 
+class RowError(BaseModel):
+    rig: int = Field(description="Index of the rig in `rigs`.")
+    reason: str
+
+
 class CalculatorResult(BaseModel):
     version: str
     outputs: dict[str, OutputValues]
     cautions: list[str] = Field(default_factory=list)
     error: str | None = Field(default=None, description="Why this calculator gave no result.")
+    row_errors: list[RowError] = Field(
+        default_factory=list,
+        description="Rigs whose values are null because the calculation overflowed or was undefined "
+        "for their inputs only; the other rigs' values stand.",
+    )
 
 
 class RigRef(BaseModel):
