@@ -123,7 +123,7 @@ def cooling(thickness_mm, h, rho, c, k, initial_k, tolerance_k, fall_k_per_h) ->
         settle_s = np.where(ratio > 1.0, slowest_mode_s * np.log(np.maximum(ratio, 1.0)), 0.0)
     settle_s = np.where(np.isnan(half), np.nan, settle_s)
     lag_k = fall_k_per_h / 3600.0 * tau_s * (1.0 + biot / 2.0)
-    return {"tau_min": tau_s / 60.0, "biot": biot, "settle_min": settle_s / 60.0, "lag_k": lag_k}
+    return {"tau_minutes": tau_s / 60.0, "biot": biot, "settle_minutes": settle_s / 60.0, "lag_k": lag_k}
 
 
 class MirrorCooldown(Calculator):
@@ -181,10 +181,10 @@ class MirrorCooldown(Calculator):
                                   "lumped model holds")),
             )
         return {
-            "time_constant_minutes": still["tau_min"],
-            "time_constant_fan_minutes": fan["tau_min"],
-            "settle_time_minutes": still["settle_min"],
-            "settle_time_fan_minutes": fan["settle_min"],
+            "time_constant_minutes": still["tau_minutes"],
+            "time_constant_fan_minutes": fan["tau_minutes"],
+            "settle_time_minutes": still["settle_minutes"],
+            "settle_time_fan_minutes": fan["settle_minutes"],
             "lag_k": still["lag_k"],
             "lag_fan_k": fan["lag_k"],
             "biot_number": still["biot"],
