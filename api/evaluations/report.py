@@ -24,7 +24,7 @@ from markupsafe import Markup
 
 from api.clubs.page import CAUTIONS
 from api.evaluations import charts
-from api.evaluations.sample import SAMPLE_SIZE, sample
+from api.evaluations.sample import SAMPLE_SIZE, canonical, sample
 from calculators.batch import AXES
 from calculators.evaluation_schemas import EvaluationResult, EvaluationRow, EvaluationSpec
 from plugins.compare import compare
@@ -182,7 +182,7 @@ def _value(results, name: str, output: str, i: int):
     return None if values is None else values.values[i]
 
 
-def _sheet(rank, row, components, spec, result, calculators, entries, extras, used) -> dict:
+def _sheet(rank, row, components, bounds_by_key, objectives, result, calculators, entries, extras, used) -> dict:
     i = rank - 1
     units = result.units
     buy, total = _purchase(components, row)
@@ -190,11 +190,11 @@ def _sheet(rank, row, components, spec, result, calculators, entries, extras, us
         "label": label_of(key, calculators), "key": key, "unit": units.get(key, ""),
         "value": charts.number_text(row.values.get(key)),
         "bounds": bounds_text(bounds, units.get(key, "")), "met": True,
-    } for key, bounds in spec.constraints.items()]
+    } for key, bounds in bounds_by_key.items()]
     objectives = [{
         "label": label_of(key, calculators), "key": key, "unit": units.get(key, ""),
         "value": charts.number_text(row.values.get(key)), "direction": direction,
-    } for key, direction in spec.objectives.items()]
+    } for key, direction in objectives.items()]
     sheet = {"rank": rank, "indices": ",".join(map(str, _indices(row))), "score": row.score,
              "parts": _parts(components, row, entries), "purchase": buy, "total": total,
              "constraints": constraints, "objectives": objectives,
@@ -245,9 +245,12 @@ def context(spec: EvaluationSpec, components, result: EvaluationResult, registry
             entries: Sequence[Entry] = ()) -> dict[str, Any]:
     """Everything the report template shows (charts as SVG markup)."""
     calculators = registry.calculators
-    keys = list(spec.objectives)
+    # Keys by their current names, as the answer's values have them.
+    objectives = {canonical(k, calculators): d for k, d in spec.objectives.items()}
+    constraints = {canonical(k, calculators): b for k, b in spec.constraints.items()}
+    keys = list(objectives)
     units = result.units
-    axes = [charts.Axis(k, label_of(k, calculators), units.get(k, ""), spec.objectives[k]) for k in keys]
+    axes = [charts.Axis(k, label_of(k, calculators), units.get(k, ""), objectives[k]) for k in keys]
     drawn = sample(components, spec, calculators)
     feasible = int(drawn.feasible.sum())
     cloud = []
@@ -281,17 +284,17 @@ def context(spec: EvaluationSpec, components, result: EvaluationResult, registry
         parallel = charts.parallel_svg(axes, lines, shown_of=len(result.front))
     by_place = {(e.kind, e.index): e for e in entries}
     extras, used = _extras(components, picks_rows, spec, registry)
-    sheets = [_sheet(n, row, components, spec, result, calculators, by_place, extras, used)
+    sheets = [_sheet(n, row, components, constraints, objectives, result, calculators, by_place, extras, used)
               for n, row in enumerate(picks_rows, 1)]
-    constraints = [f"{label_of(k, calculators)} ({k}) {bounds_text(b, units.get(k, ''))}"
-                   for k, b in spec.constraints.items()]
-    objectives = [f"{label_of(k, calculators)} ({k}) as {'low' if d == 'min' else 'high'} as possible"
-                  + (f", in {units[k]}" if units.get(k) else "") for k, d in spec.objectives.items()]
+    constraint_words = [f"{label_of(k, calculators)} ({k}) {bounds_text(b, units.get(k, ''))}"
+                        for k, b in constraints.items()]
+    objective_words = [f"{label_of(k, calculators)} ({k}) as {'low' if d == 'min' else 'high'} as possible"
+                       + (f", in {units[k]}" if units.get(k) else "") for k, d in objectives.items()]
     return {
         "tradeoff": Markup(tradeoff), "parallel": Markup(parallel) if parallel else None,
         "reading": charts.READING, "sampled": sampled, "sample_size": SAMPLE_SIZE,
         "sheets": sheets, "picks_total": len(result.top), "max_picks": MAX_PICKS,
-        "constraints": constraints, "objectives": objectives,
+        "constraints": constraint_words, "objectives": objective_words,
         "evaluated": result.evaluated, "feasible": result.feasible, "front": len(result.front),
         "excluded": getattr(result, "excluded", None),
         "infeasible": result.evaluated - result.feasible,

@@ -20,6 +20,7 @@ import numpy as np
 from calculators.batch import AXES, RigBatch
 from calculators.evaluation_schemas import EvaluationSpec
 from calculators.schemas import MIN_FOCAL_RATIO
+from calculators.sweep import EvaluationError, resolve_key
 from plugins.runner import parse_params, run
 
 #: Most combinations computed for the chart's cloud of feasible points.
@@ -39,6 +40,14 @@ class Sample:
     @property
     def size(self) -> int:
         return int(self.indices.shape[0])
+
+
+def canonical(key: str, calculators: Mapping) -> str:
+    """The current name of an output key (a renamed output is still accepted by its old name)."""
+    try:
+        return resolve_key(key, "objectives", calculators).key
+    except EvaluationError:
+        return key  # not loaded any more: left as saved
 
 
 def pick(evaluated: int, size: int = SAMPLE_SIZE, seed: int = SEED) -> np.ndarray:
@@ -64,7 +73,8 @@ def sample(components: Sequence[Sequence], spec: EvaluationSpec, calculators: Ma
         columns[name] = np.broadcast_to(picked, rows.shape)
     batch = RigBatch(columns=columns, baseline=(int(np.searchsorted(rows, base)),))
 
-    keys = list(dict.fromkeys([*spec.constraints, *spec.objectives]))
+    constraints = {canonical(k, calculators): b for k, b in spec.constraints.items()}
+    keys = list(dict.fromkeys([*constraints, *(canonical(k, calculators) for k in spec.objectives)]))
     wanted: dict[str, list[str]] = {}
     for key in keys:
         name, _, output = key.partition(".")
@@ -81,7 +91,7 @@ def sample(components: Sequence[Sequence], spec: EvaluationSpec, calculators: Ma
     feasible = ratio >= MIN_FOCAL_RATIO
     for key in keys:
         feasible &= np.isfinite(values[key])
-    for key, bounds in spec.constraints.items():
+    for key, bounds in constraints.items():
         v = values[key]
         if bounds.min is not None:
             feasible &= v >= bounds.min

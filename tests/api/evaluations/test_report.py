@@ -168,3 +168,15 @@ def test_no_feasible_combination_gives_a_page_without_sheets():
     spec, components, result = answer(request(constraints={"sampling.pixel_scale_arcsec": {"min": 100}}))
     page = report.context(spec, components, result, REGISTRY)
     assert result.feasible == 0 and page["sheets"] == [] and front_drawn(str(page["tradeoff"])) == []
+
+
+def test_an_old_output_name_draws_the_same_chart_as_the_new_one():
+    # light_grasp.limiting_magnitude is accepted for one release as visual_limiting_magnitude.
+    pages = []
+    for name in ("limiting_magnitude", "visual_limiting_magnitude"):
+        spec, components, result = answer(request(objectives={"cost.total_price": "min",
+                                                              f"light_grasp.{name}": "max"}))
+        page = report.context(spec, components, result, REGISTRY)
+        assert front_drawn(str(page["tradeoff"])) == sorted(key(r) for r in result.front)
+        pages.append(str(page["tradeoff"]))
+    assert pages[0] == pages[1] and 'data-set="feasible-sample"' in pages[0]

@@ -1,7 +1,7 @@
 """saved evaluations
 
 Revision ID: 0007_saved_evaluations
-Revises: 0001
+Revises: 0002_one_name_per_quantity
 Create Date: 2026-12-02 04:40:00
 
 """
@@ -13,7 +13,7 @@ from alembic import op
 
 # revision identifiers, used by Alembic.
 revision: str = '0007_saved_evaluations'
-down_revision: Union[str, Sequence[str], None] = '0001'
+down_revision: Union[str, Sequence[str], None] = '0002_one_name_per_quantity'
 branch_labels: Union[str, Sequence[str], None] = None
 depends_on: Union[str, Sequence[str], None] = None
 
