@@ -29,6 +29,7 @@ from api.evaluations import routes as evaluations
 from api.evaluations import saved_routes as saved_evaluations
 from api.http import health, problems, request_log
 from api.http.body_limit import BodySizeLimit
+from api.http.edge import Edge
 from api.http.health import _version
 from api.http.ratelimit import RateLimits
 from api.settings import Settings
@@ -90,15 +91,18 @@ def create_app(settings: Settings | None = None) -> FastAPI:
     problems.install(app)
     for module in ROUTERS:
         app.include_router(module.router)
-    app.add_middleware(BodySizeLimit, max_bytes=settings.max_body_bytes)
+    app.add_middleware(BodySizeLimit, max_bytes=settings.max_body_bytes, timeout_s=settings.body_timeout_s)
     if settings.cors_origins:
         app.add_middleware(
             CORSMiddleware,
             allow_origins=settings.cors_origins,
-            allow_methods=["GET", "POST", "PUT", "PATCH", "DELETE"],
-            allow_headers=["Authorization", "Content-Type", "If-Match", "Accept"],
+            allow_methods=["GET", "HEAD", "POST", "PUT", "PATCH", "DELETE"],
+            allow_headers=["Authorization", "Content-Type", "If-Match", "If-None-Match", "Accept"],
             expose_headers=["ETag", "Location"],
         )
+    # Client address, link origin and HEAD, before anything reads them.
+    app.add_middleware(Edge, trusted_proxies=settings.trusted_proxies, public_url=settings.public_url,
+                       allowed_hosts=settings.allowed_hosts)
     # Outermost, so even a refused oversized body gets a request id and a log line.
     app.add_middleware(request_log.RequestLog, enabled=settings.request_log)
     if settings.request_log:

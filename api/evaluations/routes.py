@@ -22,6 +22,8 @@ from api.evaluations.request import (
     sizes,
 )
 from api.http import problems
+from api.http.budget import budget_for, run_heavy
+from api.http.ratelimit import client_address, rate_limits
 from api.http.negotiation import prefers_csv
 from calculators.evaluation_schemas import EvaluationResult
 from calculators.sweep import EvaluationError, evaluate_spec
@@ -52,13 +54,15 @@ async def create_evaluation(body: EvaluationRequest, request: Request, caller: C
     state = request.app.state
     maximum = state.settings.max_combinations
     check_size(body, maximum)
+    await rate_limits(request).count_compute(caller.key_id if caller else None, client_address(request))
     if needs_database(body):
         components, ids = await run_in_threadpool(resolve_components, state.engine, caller, body)
     else:
         components, ids = inline_components(body), None
     try:
-        result = await run_in_threadpool(
-            evaluate_spec, *components, body,
+        budget = budget_for(request, caller is not None)
+        result = await run_heavy(
+            request, budget, evaluate_spec, *components, body, check=budget.check,
             calculators=state.registry.calculators, ids=ids, max_combinations=maximum,
             max_front_rows=MAX_FRONT_ROWS,
         )
