@@ -60,9 +60,10 @@ def create_app(settings: Settings | None = None) -> FastAPI:
     @asynccontextmanager
     async def lifespan(app: FastAPI) -> AsyncIterator[None]:
         if settings.is_sqlite:
-            # One file, one process tree: bring the schema up to date on start. On PostgreSQL the
-            # operator runs `rigbench db upgrade` once, so several servers never race to migrate.
-            db.upgrade(app.state.engine)
+            # One file, one process tree: bring the schema up to date on start (`rigbench serve`
+            # has already done it before starting its workers, so they only check). On PostgreSQL
+            # the operator runs `rigbench db upgrade` once, so several servers never race to migrate.
+            db.upgrade_if_behind(app.state.engine)
         elif warning := await run_in_threadpool(db.schema_warning, app.state.engine):
             log.warning(warning)
         yield
