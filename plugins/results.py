@@ -4,12 +4,19 @@ from __future__ import annotations
 
 from pydantic import BaseModel, Field
 
+from calculators.site import SiteUsed
+
 Value = float | str | bool | None
 
 
 class OutputValues(BaseModel):
     unit: str = Field(description="Unit of every value (pint-readable; '' when dimensionless).")
     values: list[Value] = Field(description="One value per rig, in request order; null where undefined.")
+    null_reasons: list[str | None] | None = Field(
+        default=None,
+        description="Why a value is null: null when every value is defined, else one entry per rig "
+        "(as long as `values`), a sentence where the value is null and null where it is not.",
+    )
 
 
 class CalculatorResult(BaseModel):
@@ -28,3 +35,6 @@ class Comparison(BaseModel):
     rigs: list[RigRef]
     baseline: int
     results: dict[str, CalculatorResult]
+    site: SiteUsed | None = Field(
+        default=None, description="The observing site whose conditions filled the params (null: none)."
+    )
