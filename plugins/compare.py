@@ -80,6 +80,12 @@ def compare(
             "cautions": list(calc.cautions),
             "error": outcome.error,
         }
+        if outcome.row_errors:
+            results[name]["row_errors"] = [
+                {"rig": row, "reason": f"{', '.join(outputs)}: not a finite number for this rig's "
+                                       "inputs (an overflow or an undefined operation); shown as null"}
+                for row, outputs in sorted(outcome.row_errors.items())
+            ]
     ids = list(ids) if ids is not None else [None] * len(models)
     # One validation of the whole tree (in pydantic's compiled core) instead of one model per
     # output: for a few rigs, building some forty small models cost more than their arithmetic.

@@ -106,7 +106,8 @@ def _gather(request: Request, name: str, baseline: str | None, target: str):
         )
         equipment = clubs.equipment(session, club, state.settings.max_page_size)
         rigs, _total = clubs.rigs(session, club, state.settings.max_rigs_per_comparison, 0)
-    return club, result, equipment, rigs
+    # A rig whose stored spec no longer validates is left off the page (the JSON lists mark it).
+    return club, result, equipment, [rig for rig in rigs if not rig.invalid]
 
 
 def _problem_page(request: Request, problem: ApiProblem) -> HTMLResponse:

@@ -24,6 +24,7 @@ from api.sites.conditions import OVERRIDES, default_site, with_overrides
 from calculators.builtin.catalogue import UnknownObject, lookup
 from plugins.compare import compare
 from plugins.registry import Registry
+from plugins.results import SkippedRig
 
 #: The kinds of equipment, as (URL segment, resource) in the order a page shows them.
 EQUIPMENT = (
@@ -114,13 +115,18 @@ def comparison(
         site = site.model_copy(update={"name": f"{site.name} (with query overrides)"})
     target = check_target(target)
     listed, total = rigs(session, club, max_rigs, 0)
+    # A rig whose stored spec no longer validates is left out, with its reasons.
+    skipped = [SkippedRig(index=i, id=rig.id, name=rig.name,
+                          reasons=[f"{r.field}: {r.message}" for r in rig.invalid_reasons])
+               for i, rig in enumerate(listed) if rig.invalid]
+    listed = [rig for rig in listed if not rig.invalid]
     ids = [rig.id for rig in listed]
     if baseline_id is not None and baseline_id not in ids:
         raise invalid("baseline", f"rig {baseline_id} is not one of {club.name!r}'s public rigs "
                                   f"(they are {', '.join(map(str, ids)) or 'none'})")
     if not listed:
         return ClubComparison(rigs=[], baseline=0, results={}, club=club.name, baseline_rig_id=None,
-                              target=target, rigs_total=total)
+                              target=target, rigs_total=total, skipped=skipped)
     baseline = ids.index(baseline_id) if baseline_id is not None else 0
     names = list(registry.calculators)
     params = {"target_fit": {"target": target}} if "target_fit" in names else {}
@@ -128,6 +134,7 @@ def comparison(
         [rig.resolved for rig in listed], names, baseline, params,
         registry=registry, ids=ids, site=site, site_id=site_id,
     )
+    result.skipped = skipped
     return ClubComparison(
         **result.model_dump(), club=club.name, baseline_rig_id=ids[baseline], target=target, rigs_total=total,
     )

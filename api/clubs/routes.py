@@ -102,7 +102,7 @@ def list_club_rigs(
     check_limit(limit, settings)
     items, total = clubs.rigs(session, clubs.find_club(session, name), limit, offset)
     if wants_csv(request, format):
-        return as_csv(rigs_csv(items), f"{name}-rigs.csv")
+        return as_csv(rigs_csv([rig for rig in items if not rig.invalid]), f"{name}-rigs.csv")
     return RigList(items=items, total=total, limit=limit, offset=offset)
 
 

@@ -129,3 +129,15 @@ class RigRow(StoredItem, table=True):
     camera_id: int | None = _reference("cameras")
     modifier_id: int | None = _reference("modifiers")
     mount_id: int | None = _reference("mounts")
+
+
+class SavedEvaluationRow(StoredItem, table=True):
+    """A purchase evaluation kept with its answer (api/evaluations/saved.py).
+
+    ``spec`` holds the request as sent, the components it was computed from (stored ones copied at
+    saving) and which entries were stored ids; ``result`` the answer as it was then.
+    """
+
+    __tablename__ = "saved_evaluations"
+
+    result: dict = Field(sa_type=JSON, nullable=False)

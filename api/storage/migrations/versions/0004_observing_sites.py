@@ -1,7 +1,7 @@
 """observing sites, and a club's default site
 
 Revision ID: 0004_observing_sites
-Revises: 0001
+Revises: 0007_saved_evaluations
 Create Date: 2026-12-02 05:00:00
 
 """
@@ -12,7 +12,7 @@ import sqlmodel  # noqa: F401
 from alembic import op
 
 revision: str = '0004_observing_sites'
-down_revision: Union[str, Sequence[str], None] = '0001'
+down_revision: Union[str, Sequence[str], None] = '0007_saved_evaluations'
 branch_labels: Union[str, Sequence[str], None] = None
 depends_on: Union[str, Sequence[str], None] = None
 
