@@ -13,7 +13,8 @@ from api.comparisons.resolve import baseline_after_skips, check_request, inline_
 from api.deps import Caller
 from api.http import problems
 from api.http.negotiation import prefers_csv
-from api.schemas import ComparisonRequest
+from api.schemas import ComparisonRequest, Ref
+from api.sites.conditions import read_site
 from plugins.compare import compare
 from plugins.results import Comparison
 
@@ -45,8 +46,11 @@ async def create_comparison(body: ComparisonRequest, request: Request, caller: C
         rigs, ids, skipped = await run_in_threadpool(resolve_rigs, engine, caller, body)
     else:
         rigs, ids = inline_rigs(body), None
+    site, site_id = body.site, None
+    if isinstance(site, Ref):
+        site, site_id = await run_in_threadpool(read_site, engine, caller, site)
     args = (rigs, names, baseline_after_skips(body.baseline, skipped), body.params)
-    kwargs = {"registry": registry, "ids": ids}
+    kwargs = {"registry": registry, "ids": ids, "site": site, "site_id": site_id}
     # A third-party calculator may wait out its time budget in a worker thread: never on the loop.
     if len(rigs) > THREADPOOL_RIGS or registry.runs_third_party(names):
         result = await run_in_threadpool(compare, *args, **kwargs)
