@@ -26,6 +26,7 @@ from calculators.schemas import (
     Telescope,
     upgrade_old_mount,
 )
+from calculators.site import Site
 
 MAX_ID = 2**63 - 1
 Id = Annotated[int, Field(ge=1, le=MAX_ID)]
@@ -136,6 +137,7 @@ TELESCOPE = EquipmentSchemas(Telescope, "telescope")
 CAMERA = EquipmentSchemas(Camera, "camera")
 MODIFIER = EquipmentSchemas(Modifier, "modifier")
 MOUNT = EquipmentSchemas(Mount, "mount", upgrade=lambda cls, data: upgrade_old_mount(data))
+SITE = EquipmentSchemas(Site, "site")
 
 
 # --- rigs -----------------------------------------------------------------------------------------
@@ -187,6 +189,9 @@ class AccountPublic(BaseModel):
     location: str
     contact_url: str
     created_at: datetime
+    default_site_id: int | None = Field(
+        default=None, description="The public site the account's club page and comparisons use by default."
+    )
 
 
 class Me(AccountPublic):
@@ -247,6 +252,10 @@ class ComparisonRequest(Strict):
     baseline: int = Field(default=0, ge=0, description="Index into rigs of the rig others are relative to.")
     params: dict[str, dict[str, Any]] = Field(
         default_factory=dict, description="Params per calculator name."
+    )
+    site: slot(Site) | None = Field(
+        default=None, description='An observing site, inline or {"id": N} of a stored one you may read: '
+        "its conditions fill every calculator param of the same meaning that `params` does not state.",
     )
 
 

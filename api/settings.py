@@ -133,6 +133,11 @@ class Settings(BaseSettings):
         default=30.0, gt=0, le=3600,
         description="Longest a client may take to send a request's body, in seconds (408 past it).",
     )
+    workers: int = Field(
+        default=0, ge=0, le=512,
+        description="Server processes `rigbench serve` starts (`--workers` overrides it); 0: one per "
+        "CPU core this process may use, the production default. `--demo` serves with 1.",
+    )
     request_log: bool = Field(
         default=True, description="Write one JSON line per request (id, method, path, status, time) to stderr."
     )
@@ -183,6 +188,15 @@ class Settings(BaseSettings):
         if not self.database_url:
             self.database_url = f"sqlite:///{(self.data_dir / 'rigbench.db').as_posix()}"
         return self
+
+    @property
+    def worker_count(self) -> int:
+        """``workers``, with 0 read as one per CPU core available to this process."""
+        if self.workers:
+            return self.workers
+        import os
+
+        return len(os.sched_getaffinity(0)) if hasattr(os, "sched_getaffinity") else os.cpu_count() or 1
 
     @property
     def is_sqlite(self) -> bool:

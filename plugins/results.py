@@ -4,12 +4,19 @@ from __future__ import annotations
 
 from pydantic import BaseModel, Field
 
+from calculators.site import SiteUsed
+
 Value = float | str | bool | None
 
 
 class OutputValues(BaseModel):
     unit: str = Field(description="Unit of every value (pint-readable; '' when dimensionless).")
     values: list[Value] = Field(description="One value per rig, in request order; null where undefined.")
+    null_reasons: list[str | None] | None = Field(
+        default=None,
+        description="Why a value is null: null when every value is defined, else one entry per rig "
+        "(as long as `values`), a sentence where the value is null and null where it is not.",
+    )
 
 
 class RowError(BaseModel):
@@ -49,4 +56,7 @@ class Comparison(BaseModel):
         default_factory=list,
         description="Stored rigs that could not be computed (their stored spec no longer validates), "
         "each with the reasons; repair them with PATCH or PUT.",
+    )
+    site: SiteUsed | None = Field(
+        default=None, description="The observing site whose conditions filled the params (null: none)."
     )

@@ -15,7 +15,8 @@ from api.http import problems
 from api.http.budget import budget_for, run_heavy
 from api.http.ratelimit import client_address, rate_limits
 from api.http.negotiation import prefers_csv
-from api.schemas import ComparisonRequest
+from api.schemas import ComparisonRequest, Ref
+from api.sites.conditions import read_site
 from plugins.compare import compare
 from plugins.results import Comparison
 
@@ -47,8 +48,11 @@ async def create_comparison(body: ComparisonRequest, request: Request, caller: C
         rigs, ids, skipped = await run_in_threadpool(resolve_rigs, engine, caller, body)
     else:
         rigs, ids = inline_rigs(body), None
+    site, site_id = body.site, None
+    if isinstance(site, Ref):
+        site, site_id = await run_in_threadpool(read_site, engine, caller, site)
     args = (rigs, names, baseline_after_skips(body.baseline, skipped), body.params)
-    kwargs = {"registry": registry, "ids": ids}
+    kwargs = {"registry": registry, "ids": ids, "site": site, "site_id": site_id}
     # A third-party calculator may wait out its time budget in a worker thread: never on the loop.
     if len(rigs) > THREADPOOL_RIGS:  # a heavy one: rate-limited, and under a heavy-request slot
         await rate_limits(request).count_compute(caller.key_id if caller else None, client_address(request))

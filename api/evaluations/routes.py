@@ -20,7 +20,10 @@ from api.evaluations.request import (
     needs_database,
     resolve_components,
     sizes,
+    with_site,
 )
+from api.schemas import Ref
+from api.sites.conditions import read_site
 from api.http import problems
 from api.http.budget import budget_for, run_heavy
 from api.http.ratelimit import client_address, rate_limits
@@ -59,6 +62,10 @@ async def create_evaluation(body: EvaluationRequest, request: Request, caller: C
         components, ids = await run_in_threadpool(resolve_components, state.engine, caller, body)
     else:
         components, ids = inline_components(body), None
+    site, site_id = body.site, None
+    if isinstance(site, Ref):
+        site, site_id = await run_in_threadpool(read_site, state.engine, caller, site)
+    body, used = with_site(body, site, site_id, state.registry.calculators)
     try:
         budget = budget_for(request, caller is not None)
         result = await run_heavy(
@@ -68,6 +75,8 @@ async def create_evaluation(body: EvaluationRequest, request: Request, caller: C
         )
     except EvaluationError as exc:
         raise as_problem(exc, sizes(body)) from None
+    if used is not None:
+        result.site = used
     if prefers_csv(request.headers.get("accept")):
         return Response(
             evaluation_csv(result), media_type="text/csv; charset=utf-8",
