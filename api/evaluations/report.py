@@ -315,6 +315,7 @@ def context(spec: EvaluationSpec, components, result: EvaluationResult, registry
         "changed": [e for e in entries if e.status == "changed"],
         "axes": axes, "no_front": not result.front,
         "general_cautions": CAUTIONS,
+        "site": getattr(result, "site", None),
     }
 
 
