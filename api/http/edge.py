@@ -59,8 +59,8 @@ class Edge:
         if not server:
             return b"localhost"
         host, port = server[0], server[1]
-        if port is None:
-            return host.encode()
+        if port is None or (scope.get("scheme"), port) in (("http", 80), ("https", 443)):
+            return (f"[{host}]" if ":" in host else host).encode()
         host = f"[{host}]" if ":" in host else host
         return f"{host}:{port}".encode()
 
