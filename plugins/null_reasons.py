@@ -116,6 +116,18 @@ def _missing(batch: RigBatch, column: str, row: int) -> bool:
 
 
 def _from_columns(batch: RigBatch, columns: Sequence[str], row: int) -> str | None:
+    # Outputs of one calculator mostly share their columns: each (columns, row) is worked out once.
+    store = getattr(batch, "derived", None)
+    if store is None:
+        return _sentence(batch, columns, row)
+    memo = store.setdefault(f"{__name__}.from_columns", {})
+    key = (tuple(columns), row)
+    if key not in memo:
+        memo[key] = _sentence(batch, columns, row)
+    return memo[key]
+
+
+def _sentence(batch: RigBatch, columns: Sequence[str], row: int) -> str | None:
     if CAMERA_MARK in columns and _missing(batch, CAMERA_MARK, row):
         return NO_CAMERA
     missing = [COLUMN_FIELDS.get(c, c) for c in columns if _missing(batch, c, row)]
