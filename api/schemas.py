@@ -10,7 +10,7 @@ from __future__ import annotations
 from datetime import datetime
 from typing import Annotated, Any
 
-from pydantic import BaseModel, ConfigDict, Discriminator, Field, Tag, create_model, field_validator
+from pydantic import BaseModel, ConfigDict, Discriminator, Field, Tag, create_model, field_validator, model_validator
 
 from api.storage.models import AccountKind, KeyScope, Visibility
 from calculators.schemas import (
@@ -23,6 +23,7 @@ from calculators.schemas import (
     Rig,
     Strict,
     Telescope,
+    upgrade_old_mount,
 )
 
 MAX_ID = 2**63 - 1
@@ -98,9 +99,11 @@ def _optional_fields(model: type[BaseModel]) -> dict[str, Any]:
 class EquipmentSchemas:
     """The four role-named bodies of one kind of equipment, built from its calculator schema."""
 
-    def __init__(self, spec: type[BaseModel], label: str):
+    def __init__(self, spec: type[BaseModel], label: str, upgrade=None):
         self.spec = spec
         title = label.capitalize()
+        # Old values a patch may still send for one release (the spec's own validators cover the rest).
+        old = {"_old_names": model_validator(mode="before")(upgrade)} if upgrade else {}
         self.create = create_model(
             f"{title}Create", __base__=spec, visibility=(Visible, Visibility.private),
             __doc__=f"A new {label}.", __validators__={"_name_has_no_nul": field_validator("name")(refuse_nul)},
@@ -108,6 +111,7 @@ class EquipmentSchemas:
         self.update = create_model(
             f"{title}Update", __base__=Strict, **_optional_fields(self.create),
             __doc__=f"Changes to a {label} (JSON merge patch: null resets a field to its default).",
+            __validators__=old,
         )
         # A class statement's worth of namespace, so model_config applies (extra keys in a stored
         # spec, say from an older schema, are dropped rather than failing the read).
@@ -124,7 +128,7 @@ class EquipmentSchemas:
 TELESCOPE = EquipmentSchemas(Telescope, "telescope")
 CAMERA = EquipmentSchemas(Camera, "camera")
 MODIFIER = EquipmentSchemas(Modifier, "modifier")
-MOUNT = EquipmentSchemas(Mount, "mount")
+MOUNT = EquipmentSchemas(Mount, "mount", upgrade=lambda cls, data: upgrade_old_mount(data))
 
 
 # --- rigs -----------------------------------------------------------------------------------------

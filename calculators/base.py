@@ -10,6 +10,7 @@ A calculator is a class with a few declarations and one method::
         outputs = (Output("focal_ratio", "", "Effective focal ratio N = f/D."), ...)
         sources = ("Author, Title, year, section",)
         cautions = ()                       # optional, shown with every result
+        renamed_outputs = {}                # optional: old output name -> new, still accepted
 
         def compute(self, batch: RigBatch, params: SpeedParams) -> dict[str, np.ndarray]:
             ...
@@ -22,6 +23,7 @@ that depends only on the telescope stays ``(T, 1, 1, 1)`` in a sweep.
 
 from __future__ import annotations
 
+from collections.abc import Mapping
 from dataclasses import dataclass
 from typing import ClassVar, Literal
 
@@ -57,6 +59,9 @@ class Calculator:
     outputs: ClassVar[tuple[Output, ...]]
     sources: ClassVar[tuple[str, ...]]
     cautions: ClassVar[tuple[str, ...]] = ()
+    #: Outputs renamed in this release, old name -> new name. Requests that name an output (an
+    #: evaluation's constraints and objectives) may still use the old name for one release.
+    renamed_outputs: ClassVar[Mapping[str, str]] = {}
     Params: ClassVar[type[BaseModel]] = NoParams
 
     def compute(self, batch: RigBatch, params: BaseModel) -> dict[str, np.ndarray]:

@@ -10,7 +10,7 @@ from __future__ import annotations
 from enum import StrEnum
 from typing import Annotated
 
-from pydantic import BaseModel, ConfigDict, Field, ValidationInfo, field_validator
+from pydantic import BaseModel, BeforeValidator, ConfigDict, Field, ValidationInfo, field_validator, model_validator
 
 from calculators.units import (
     Micrometres,
@@ -52,7 +52,7 @@ class Price(Strict):
 
 
 class Design(StrEnum):
-    """Optical designs, by their trade names."""
+    """Optical designs, by their trade names (what a telescope is used for is not a design)."""
 
     refractor = "refractor"
     newtonian = "newtonian"
@@ -62,7 +62,6 @@ class Design(StrEnum):
     dall_kirkham = "dall-kirkham"
     schmidt_newtonian = "schmidt-newtonian"
     maksutov_newtonian = "maksutov-newtonian"
-    astrograph = "astrograph"
     other = "other"
 
 
@@ -78,14 +77,34 @@ DEFAULT_THROUGHPUT: dict[Design, float] = {
     Design.dall_kirkham: 0.81,
     Design.schmidt_newtonian: 0.75,
     Design.maksutov_newtonian: 0.75,
-    Design.astrograph: 0.85,
     Design.other: 0.80,
 }
+
+# Renamed values, accepted for one release (README, "Renamed in this release"). "astrograph" names a
+# purpose, not a design: such a telescope becomes "other", keeping the 0.85 default transmission the
+# old value had when it states none, so its results do not change.
+OLD_DESIGNS = {"astrograph": Design.other}
+OLD_DESIGN_THROUGHPUT = 0.85
+
+
+def _old_design(value):
+    return OLD_DESIGNS.get(value, value) if isinstance(value, str) else value
+
+
+def upgrade_old_telescope(data):
+    """A telescope body in the previous release's words, in this release's (see ``OLD_DESIGNS``)."""
+    if isinstance(data, dict) and data.get("design") in OLD_DESIGNS:
+        data = {**data, "design": OLD_DESIGNS[data["design"]].value}
+        if data.get("throughput") is None:
+            data["throughput"] = OLD_DESIGN_THROUGHPUT
+    return data
 
 
 class Telescope(Strict):
     name: Name | None = None
-    design: Design = Design.other
+    design: Annotated[Design, BeforeValidator(_old_design)] = Field(
+        default=Design.other, description="Optical design; sets default transmission, spikes, coma."
+    )
     aperture_mm: PositiveMillimetres
     focal_length_mm: PositiveMillimetres
     obstruction_mm: NonNegativeMillimetres = Field(
@@ -102,6 +121,11 @@ class Telescope(Strict):
     spider_vanes: int | None = Field(default=None, ge=0, le=16)
     mirror_thickness_mm: PositiveMillimetres | None = None
     price: Price | None = None
+
+    @model_validator(mode="before")
+    @classmethod
+    def _old_names(cls, data):
+        return upgrade_old_telescope(data)
 
     # Cross-field rules are field validators (fields validate in declaration order), so the
     # error's location names the offending field.
@@ -178,17 +202,47 @@ class MountType(StrEnum):
     german_equatorial = "german-equatorial"
     fork = "fork"
     alt_azimuth = "alt-azimuth"
-    harmonic_equatorial = "harmonic-equatorial"
     dobsonian = "dobsonian"
     other = "other"
 
 
+class Drive(StrEnum):
+    """How the motors turn the axes."""
+
+    worm = "worm"
+    strain_wave = "strain-wave"
+    belt = "belt"
+    direct = "direct"
+    other = "other"
+
+
+# Renamed values, accepted for one release (README, "Renamed in this release"): the type named after
+# a gear's trade name is a german-equatorial mount with a strain-wave drive.
+OLD_MOUNT_TYPES = {"harmonic-equatorial": (MountType.german_equatorial, Drive.strain_wave)}
+
+
+def upgrade_old_mount(data):
+    """A mount body in the previous release's words, in this release's (see ``OLD_MOUNT_TYPES``)."""
+    if isinstance(data, dict) and data.get("type") in OLD_MOUNT_TYPES:
+        kind, drive = OLD_MOUNT_TYPES[data["type"]]
+        data = {**data, "type": kind.value}
+        if data.get("drive") is None:
+            data["drive"] = drive.value
+    return data
+
+
 class Mount(Strict):
     name: Name | None = None
-    type: MountType = MountType.german_equatorial
+    type: MountType = Field(default=MountType.german_equatorial, description="Mount geometry.")
+    drive: Drive | None = Field(default=None, description="Gearing of the axes, when known.")
     capacity_kg: PositiveKilograms = Field(description="Rated instrument payload.")
     mass_kg: NonNegativeKilograms | None = None
     price: Price | None = None
+
+    @model_validator(mode="before")
+    @classmethod
+    def _old_names(cls, data):
+        return upgrade_old_mount(data)
 
 
 class Accessory(Strict):

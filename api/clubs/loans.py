@@ -25,7 +25,7 @@ from api.http.problems import ApiProblem, FieldError
 from api.storage import history
 from api.storage.club_models import HOLDING, LoanRow, LoanStatus
 from api.storage.models import Account, RigRow, StoredItem, utcnow
-from api.storage.store import aware
+from api.storage.store import aware, begin_write
 
 TABLES: dict[str, type[StoredItem]] = {
     ItemKind.telescopes.value: SLOT_TABLES["telescope"], ItemKind.cameras.value: SLOT_TABLES["camera"],
@@ -111,6 +111,7 @@ def _log(session: Session, loan: LoanRow, action: str, actor: Account, changed: 
 
 def lend(session: Session, club: Account, item: ItemRef, borrower: str, start: date, due: date,
          condition: str, note: str, actor: Account) -> LoanRow:
+    begin_write(session)  # the checks and the write in one transaction (SQLite: BEGIN IMMEDIATE)
     club_item(session, club, item)
     person = _borrower(session, club, borrower)
     _check_free(session, item, start, due)
@@ -131,6 +132,7 @@ def lend(session: Session, club: Account, item: ItemRef, borrower: str, start: d
 
 def ask(session: Session, club: Account, item: ItemRef, start: date, due: date, note: str, person: Account) -> LoanRow:
     """A member's request to borrow; it holds nothing until an officer accepts it."""
+    begin_write(session)  # the checks and the write in one transaction (SQLite: BEGIN IMMEDIATE)
     club_item(session, club, item)
     _borrower(session, club, person.name)
     loan = LoanRow(club_id=club.id, item_kind=item.kind.value, item_id=item.id, borrower_id=person.id,
@@ -163,6 +165,7 @@ def _move(session: Session, loan: LoanRow, expected: str, values: dict) -> None:
 
 
 def decide(session: Session, loan: LoanRow, accept: bool, condition: str, actor: Account) -> LoanRow:
+    begin_write(session)  # the checks and the write in one transaction (SQLite: BEGIN IMMEDIATE)
     if loan.status != LoanStatus.requested.value:
         raise invalid("status", f"loan {loan.id} is {loan.status!r}, not a request", 409)
     item = ItemRef(kind=loan.item_kind, id=loan.item_id)
@@ -180,6 +183,7 @@ def decide(session: Session, loan: LoanRow, accept: bool, condition: str, actor:
 
 
 def give_back(session: Session, loan: LoanRow, returned_on: date | None, condition: str, actor: Account) -> LoanRow:
+    begin_write(session)  # the checks and the write in one transaction (SQLite: BEGIN IMMEDIATE)
     if loan.status != LoanStatus.out.value:
         raise invalid("status", f"loan {loan.id} is {loan.status!r}, not out", 409)
     returned_on = returned_on or today()

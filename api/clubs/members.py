@@ -13,7 +13,7 @@ from api.http.problems import ApiProblem, FieldError
 from api.storage import history
 from api.storage.club_models import MembershipRow, Role
 from api.storage.models import Account, AccountKind
-from api.storage.store import aware
+from api.storage.store import aware, begin_write
 
 
 def invalid(field: str, message: str, status: int = 422) -> ApiProblem:
@@ -32,6 +32,7 @@ def find_person(session: Session, handle: str, field: str = "person") -> Account
 
 def set_role(session: Session, club: Account, handle: str, role: Role, actor: Account) -> tuple[MembershipRow, bool]:
     """Add ``handle`` to the club with ``role``, or change their role; True when newly added."""
+    begin_write(session)
     person = find_person(session, handle)
     row = session.exec(
         select(MembershipRow).where(MembershipRow.club_id == club.id, MembershipRow.person_id == person.id)
@@ -62,6 +63,7 @@ def set_role(session: Session, club: Account, handle: str, role: Role, actor: Ac
 
 
 def remove(session: Session, club: Account, handle: str, actor: Account) -> None:
+    begin_write(session)
     person = find_person(session, handle)
     row = session.exec(
         select(MembershipRow).where(MembershipRow.club_id == club.id, MembershipRow.person_id == person.id)

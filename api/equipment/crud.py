@@ -17,7 +17,15 @@ from api.http.etags import IfMatch, etag, require_match
 from api.http.problems import ApiProblem
 from api.schemas import HANDLE_PATTERN, MAX_ID
 from api.storage.models import Visibility
-from api.storage.store import delete_if_version, fetch_owned, fetch_readable, insert, list_items, update_if_version
+from api.storage.store import (
+    begin_write,
+    delete_if_version,
+    fetch_owned,
+    fetch_readable,
+    insert,
+    list_items,
+    update_if_version,
+)
 
 # Without If-Match an update re-reads and retries when another one got in first; this bounds that.
 MAX_ATTEMPTS = 20
@@ -34,6 +42,7 @@ def crud_router(resource: Resource) -> APIRouter:
 
     def change(session, principal, item_id: int, if_match: str | None, new_body) -> tuple[Any, str]:
         for _ in range(MAX_ATTEMPTS):
+            begin_write(session)  # the rules below are checked and the change made in one transaction
             row, owner = fetch_owned(session, table, item_id, principal, label)
             require_match(if_match, row.version, f"{label} {item_id}")
             values = resource.prepare(session, principal, new_body(row))
@@ -69,6 +78,7 @@ def crud_router(resource: Resource) -> APIRouter:
         },
     )
     def create(body: Create, principal: Writer, session: SessionDep, request: Request, response: Response):
+        begin_write(session)
         values = resource.prepare(session, principal, body)
         row = insert(session, table, principal, values)
         response.headers["Location"] = str(request.url_for(f"get_{label}", item_id=row.id))
@@ -153,6 +163,7 @@ def crud_router(resource: Resource) -> APIRouter:
         responses=problems.responses(401, 403, 404, 409, 412, 422),
     )
     def delete(item_id: ItemId, principal: Writer, session: SessionDep, if_match: IfMatch = None) -> Response:
+        begin_write(session)
         row, _owner = fetch_owned(session, table, item_id, principal, label)
         require_match(if_match, row.version, f"{label} {item_id}")
         resource.before_delete(session, principal, row)

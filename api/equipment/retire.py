@@ -20,7 +20,7 @@ from api.schemas import MAX_ID
 from api.storage import history
 from api.storage.history_schemas import HistoryList, history_page
 from api.storage.models import utcnow
-from api.storage.store import fetch_owned, fetch_readable
+from api.storage.store import begin_write, fetch_owned, fetch_readable, lock_rows
 
 RESOURCES = (TELESCOPES, CAMERAS, MODIFIERS, MOUNTS, RIGS)
 
@@ -38,10 +38,12 @@ def retire_router(resource: Resource) -> APIRouter:
         responses={200: {"description": f"The retired {label}."}, **problems.responses(401, 403, 404, 409, 422)},
     )
     def retire(item_id: ItemId, principal: Writer, session: SessionDep, response: Response):
+        begin_write(session)  # SQLite: the write lock from the first read on
         row, owner = fetch_owned(session, table, item_id, principal, label)
+        # Locked FOR UPDATE before the rigs are read: a rig being stored with it waits for this
+        # transaction and then finds it retired (api.equipment.rules.resolve_slots locks FOR SHARE).
+        row = lock_rows(session, table, [item_id])[item_id]
         if row.retired_at is None:
-            # The version check takes the item's row (and on SQLite the database's write lock) first,
-            # so a concurrent change either lands before the copies are taken or is refused after.
             now, version = utcnow(), row.version
             result = session.execute(
                 update(table).where(table.id == item_id, table.version == version)

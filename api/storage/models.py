@@ -125,6 +125,18 @@ class RigRow(StoredItem, table=True):
     copied_parts: list = Field(default_factory=list, sa_type=JSON, nullable=False)
 
 
+class SavedEvaluationRow(StoredItem, table=True):
+    """A purchase evaluation kept with its answer (api/evaluations/saved.py).
+
+    ``spec`` holds the request as sent, the components it was computed from (stored ones copied at
+    saving) and which entries were stored ids; ``result`` the answer as it was then.
+    """
+
+    __tablename__ = "saved_evaluations"
+
+    result: dict = Field(sa_type=JSON, nullable=False)
+
+
 # Memberships, loans and history live in their own module; imported here so every table is on
 # SQLModel.metadata whenever the models are.
 from api.storage.club_models import HistoryRow, LoanRow, MembershipRow  # noqa: E402,F401

@@ -3,7 +3,7 @@
 Formulas (units in the names; f is the effective focal length after the modifier, in mm):
 
 * ``pixel_scale_arcsec = 206.265 · p[µm] / f[mm]`` (p/f in radians as arcseconds, 648 000/π per rad);
-* ``fov_width_arcmin = 2·atan(w / 2f)``, likewise height and diagonal (exact, not small-angle),
+* ``field_width_arcmin = 2·atan(w / 2f)``, likewise height and diagonal (exact, not small-angle),
   w = width_px · p the sensor width in mm;
 * ``pixels_per_fwhm = seeing FWHM / pixel scale``, for the ``seeing_fwhm_arcsec`` param;
 * ``sampling_verdict``: "under-sampled" below ``min_pixels_per_fwhm`` (default 2), "over-sampled" above
@@ -99,19 +99,25 @@ class Sampling(Calculator):
     """
 
     name = "sampling"
-    version = "1.0.0"
+    version = "1.1.0"
     summary = "Pixel scale, field of view, and how the pixels sample the seeing."
     Params = SamplingParams
     outputs = (
         Output("pixel_scale_arcsec", "arcsec", "Angle on the sky covered by one pixel."),
-        Output("fov_width_arcmin", "arcmin", "Field of view along the sensor's width."),
-        Output("fov_height_arcmin", "arcmin", "Field of view along the sensor's height."),
-        Output("fov_diagonal_arcmin", "arcmin", "Field of view along the sensor's diagonal."),
+        Output("field_width_arcmin", "arcmin", "Field of view along the sensor's width."),
+        Output("field_height_arcmin", "arcmin", "Field of view along the sensor's height."),
+        Output("field_diagonal_arcmin", "arcmin", "Field of view along the sensor's diagonal."),
         Output("pixels_per_fwhm", "", "Pixels across the seeing FWHM."),
         Output("sampling_verdict", "", "under-sampled, well-sampled or over-sampled, by the "
                "min/max pixels per FWHM criterion.", kind="text"),
         Output("suggested_binning", "", "Coarsest binning that keeps at least min_pixels_per_fwhm."),
     )
+    # Renamed in 1.1.0; the old names are still accepted in evaluations for one release.
+    renamed_outputs = {
+        "fov_width_arcmin": "field_width_arcmin",
+        "fov_height_arcmin": "field_height_arcmin",
+        "fov_diagonal_arcmin": "field_diagonal_arcmin",
+    }
     sources = (
         "Pixel scale p/f and field 2·atan(w/2f): plane geometry; 648 000/π arcsec per radian.",
         "Two samples per resolution element: Nyquist 1928, Shannon 1949 (sampling theorem); "
@@ -131,9 +137,9 @@ class Sampling(Calculator):
         binning = np.clip(np.floor(ppf / params.min_pixels_per_fwhm), 1, params.max_binning)
         return {
             "pixel_scale_arcsec": scale,
-            "fov_width_arcmin": full_angle_arcmin(width_mm, twice_f),
-            "fov_height_arcmin": full_angle_arcmin(height_mm, twice_f),
-            "fov_diagonal_arcmin": full_angle_arcmin(diagonal_mm, twice_f),
+            "field_width_arcmin": full_angle_arcmin(width_mm, twice_f),
+            "field_height_arcmin": full_angle_arcmin(height_mm, twice_f),
+            "field_diagonal_arcmin": full_angle_arcmin(diagonal_mm, twice_f),
             "pixels_per_fwhm": ppf,
             "sampling_verdict": VERDICTS[code],
             "suggested_binning": binning.astype(np.int16),

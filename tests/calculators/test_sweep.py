@@ -1,4 +1,4 @@
-"""Tests of calculators/sweep.py.
+"""Tests of calculators/sweep/.
 
 The reference for every sweep is the comparison path: the same combinations built as ``Rig`` models
 and computed one row per rig by ``plugins.compare.compare``, then filtered, fronted (brute force,

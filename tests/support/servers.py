@@ -2,7 +2,7 @@
 
 ``database(backend, tmp_path)`` gives a SQLite file URL or a fresh PostgreSQL schema on the server named by
 ``RIGBENCH_TEST_POSTGRES_URL`` (dropped afterwards), migrated and holding one account whose key it
-returns. ``Server`` runs ``uvicorn --factory api.app:create_app`` against it.
+returns (``others=("bob",)`` adds more accounts, their keys in ``keys``). ``Server`` runs ``uvicorn --factory api.app:create_app`` against it.
 """
 
 from __future__ import annotations
@@ -16,7 +16,7 @@ import time
 import uuid
 from collections.abc import Iterator
 from contextlib import contextmanager
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from pathlib import Path
 
 import httpx
@@ -48,10 +48,13 @@ class Database:
     url: str
     key: str
     sqlite_file: Path | None
+    keys: dict[str, str] = field(default_factory=dict)  # every account's key, by handle
 
 
 @contextmanager
-def database(backend: str, tmp_path: Path, account: str = "alice") -> Iterator[Database]:
+def database(
+    backend: str, tmp_path: Path, account: str = "alice", others: tuple[str, ...] = ()
+) -> Iterator[Database]:
     """A migrated database with one account; skips the test when PostgreSQL is asked for but not given."""
     if backend == "sqlite":
         path = tmp_path / "rigbench.db"
@@ -74,10 +77,12 @@ def database(backend: str, tmp_path: Path, account: str = "alice") -> Iterator[D
     engine = db.make_engine(url)
     try:
         db.upgrade(engine)
+        keys = {}
         with Session(engine) as session:
-            _account, key = create_account(session, account)
+            for name in (account, *others):
+                _account, keys[name] = create_account(session, name)
         engine.dispose()
-        yield Database(url, key, sqlite_file)
+        yield Database(url, keys[account], sqlite_file, keys)
     finally:
         engine.dispose()
         if cleanup is not None:

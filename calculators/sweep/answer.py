@@ -1,0 +1,167 @@
+"""The sweep's entry points: :func:`evaluate` checks the request, runs the passes and builds
+the answer's rows (how it works: :mod:`calculators.sweep`)."""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Callable, Mapping, Sequence
+from typing import Any
+
+import numpy as np
+from pydantic import BaseModel
+
+from calculators.base import Calculator
+from calculators.batch import AXES, RigBatch
+from calculators.evaluation_schemas import (
+    Bounds,
+    EvaluationResult,
+    EvaluationRow,
+    EvaluationSpec,
+    Ids,
+    Indices,
+)
+from calculators.schemas import Camera, Modifier, Mount, Telescope
+from calculators.sweep.chunks import guarded, row_values
+from calculators.sweep.errors import EvaluationError, FrontTooLarge, TooManyCombinations
+from calculators.sweep.passes import run_passes
+from calculators.sweep.plan import baseline_indices, plan_calculators, stored_ids
+
+#: Default largest cartesian product one evaluation may sweep.
+DEFAULT_MAX_COMBINATIONS = 5_000_000
+
+#: Default largest number of combinations computed at once (memory is about 8 bytes per
+#: combination for each output that depends on all four kinds, plus the masks).
+DEFAULT_CHUNK_ROWS = 1 << 20
+
+Progress = Callable[[int, int], None]
+
+def evaluate(
+    telescopes: Sequence[Telescope],
+    cameras: Sequence[Camera],
+    modifiers: Sequence[Modifier | None] = (None,),
+    mounts: Sequence[Mount | None] = (None,),
+    *,
+    objectives: Mapping[str, str],
+    constraints: Mapping[str, Bounds | Mapping[str, float | None]] | None = None,
+    params: Mapping[str, Mapping[str, Any] | BaseModel] | None = None,
+    baseline: Indices | Sequence[int] | None = None,
+    limit: int = 20,
+    calculators: Mapping[str, Calculator],
+    ids: Mapping[str, Sequence[int | None]] | None = None,
+    max_combinations: int = DEFAULT_MAX_COMBINATIONS,
+    chunk_rows: int = DEFAULT_CHUNK_ROWS,
+    progress: Progress | None = None,
+    max_front_rows: int | None = None,
+) -> EvaluationResult:
+    """Sweep telescopes × cameras × modifiers × mounts; return counts, the front and the top rows.
+
+    ``calculators`` maps names to calculators (e.g. ``registry.calculators``); ``ids`` optionally
+    gives stored ids per kind (``{"telescope": [7, None, ...], ...}``, aligned with the lists);
+    ``progress(done, total)`` is called after each chunk computed; ``max_front_rows`` refuses
+    (:class:`FrontTooLarge`) a front of more rows than an answer should hold, before they are
+    built (combinations with equal objective values are all on the front, so ties can make it as
+    large as the product). Every bad input raises an
+    :class:`EvaluationError` (a :class:`RigbenchError` and ``ValueError``) whose ``loc`` names the
+    field, before any heavy work; a calculator that refuses or fails on the components raises
+    :class:`CalculatorFailed` (also a :class:`CalculationError`).
+    """
+    lists = (list(telescopes), list(cameras), list(modifiers), list(mounts))
+    sizes = tuple(len(items) for items in lists)
+    for kind, size in zip(AXES, sizes):
+        if size == 0:
+            hint = " (null means none)" if kind in ("modifier", "mount") else ""
+            raise EvaluationError(f"{kind}s: give at least one {kind}{hint}", loc=(f"{kind}s",))
+    evaluated = math.prod(sizes)
+    if evaluated > max_combinations:
+        raise TooManyCombinations(
+            f"{' × '.join(map(str, sizes))} = {evaluated:,} combinations exceed the maximum of "
+            f"{max_combinations:,}; shorten a list of candidates",
+            loc=(),
+        )
+    base = baseline_indices(baseline, sizes)
+    if isinstance(limit, bool) or not isinstance(limit, int) or limit < 0:
+        raise EvaluationError(f"limit: must be a whole number ≥ 0, got {limit!r}", loc=("limit",))
+    if chunk_rows < 1:
+        raise ValueError("chunk_rows must be at least 1")
+    id_lists = stored_ids(ids, sizes)
+    bounds, directions, nullable, plans = plan_calculators(
+        constraints or {}, objectives, params or {}, calculators
+    )
+
+    batch = RigBatch.from_components(*lists, baseline=base)
+    units: dict[str, str] = {}
+    for name, plan in plans.items():
+        # Called on the whole sweep batch first, so a calculator that refuses a batch as a whole
+        # (prices in several currencies) refuses it whatever the chunking.
+        given = guarded(plan, lambda p=plan: dict(p.calculator.output_units(batch, p.params)))
+        declared = {o.name: o.unit for o in plan.calculator.outputs}
+        units.update({f"{name}.{out}": str(given.get(out, declared[out])) for out in plan.outputs})
+
+    feasible, front, top, base_score = run_passes(
+        batch, plans, bounds, directions, nullable, chunk_rows, limit, progress
+    )
+
+    if max_front_rows is not None and front.positions.size > max_front_rows:
+        raise FrontTooLarge(
+            f"objectives: {front.positions.size:,} combinations are on the Pareto front, more than "
+            f"the {max_front_rows:,} an answer may hold (combinations with equal objective values "
+            "are all on it); add an objective or a constraint that tells them apart, or shorten "
+            "a list of candidates",
+            loc=("objectives",),
+        )
+
+    base_flat = int(np.ravel_multi_index(base, sizes))
+    rows_flat = np.unique(np.concatenate(([base_flat], front.positions, top.positions)))
+    values = row_values(batch, plans, rows_flat, sizes, base_flat)
+    keys = list(dict.fromkeys([*bounds, *directions]))
+    # Read into plain Python lists once: the front can hold thousands of rows, and per-row numpy
+    # scalar access costs more than building the row.
+    value_lists = {key: [_number(v) for v in values[key].tolist()] for key in keys}
+    index_lists = [ix.tolist() for ix in np.unravel_index(rows_flat, sizes)]
+
+    def rows(positions, scores) -> list[EvaluationRow]:
+        # Built without re-validation: trusted numbers, and many of them.
+        out = []
+        for at, score in zip(np.searchsorted(rows_flat, positions).tolist(), scores):
+            index = {kind: index_lists[axis][at] for axis, kind in enumerate(AXES)}
+            out.append(EvaluationRow.model_construct(
+                indices=Indices.model_construct(**index),
+                ids=Ids.model_construct(**{kind: id_lists[kind][i] for kind, i in index.items()}),
+                values={key: value_lists[key][at] for key in keys},
+                score=score,
+            ))
+        return out
+
+    return EvaluationResult(
+        evaluated=evaluated,
+        feasible=feasible,
+        front=rows(front.positions, front.scores.tolist()),
+        top=rows(top.positions, top.scores.tolist()),
+        baseline=rows(np.array([base_flat]), [base_score])[0],
+        baseline_feasible=base_score is not None,
+        units={key: units[key] for key in keys},
+        cautions={name: list(p.calculator.cautions) for name, p in plans.items()
+                  if p.calculator.cautions},
+    )
+
+
+def evaluate_spec(
+    telescopes: Sequence[Telescope],
+    cameras: Sequence[Camera],
+    modifiers: Sequence[Modifier | None],
+    mounts: Sequence[Mount | None],
+    spec: EvaluationSpec,
+    **options: Any,
+) -> EvaluationResult:
+    """:func:`evaluate` with the choices of a validated request model (``options``: calculators,
+    ids, max_combinations, chunk_rows, progress, max_front_rows)."""
+    return evaluate(
+        telescopes, cameras, modifiers, mounts,
+        objectives=spec.objectives, constraints=spec.constraints, params=spec.params,
+        baseline=spec.baseline, limit=spec.limit, **options,
+    )
+
+
+def _number(value) -> float | None:
+    value = float(value)
+    return value if math.isfinite(value) else None
