@@ -33,6 +33,8 @@ from api.http.body_limit import BodySizeLimit
 from api.http.health import _version
 from api.http.ratelimit import RateLimits
 from api.settings import Settings
+from api.sites import default as default_site
+from api.sites import resource as sites
 from api.storage import db
 from plugins.registry import load_registry
 
@@ -53,7 +55,7 @@ near the Sun without a proper full-aperture solar filter.
 # Hot routes first: the router tries routes in this order.
 ROUTERS = (
     health, comparisons, calculators, plugins_routes, accounts, telescopes, cameras, modifiers,
-    mounts, rigs, evaluations, saved_evaluations, evaluation_pages, clubs, club_page,
+    mounts, rigs, sites, default_site, evaluations, saved_evaluations, evaluation_pages, clubs, club_page,
     # club operations (issue 13)
     retire, member_routes, loan_routes,
 )

@@ -25,6 +25,7 @@ from __future__ import annotations
 
 from collections.abc import Mapping
 from dataclasses import dataclass
+from collections.abc import Mapping
 from typing import ClassVar, Literal
 
 import numpy as np
@@ -44,6 +45,9 @@ class Output:
     kind: Literal["number", "text", "boolean"] = "number"
     nullable: bool = False  # may be null (NaN) where an optional input is missing
     relative: bool = False  # depends on the baseline rig
+    # Batch columns the output cannot do without: where one is missing (NaN) for a rig, the answer
+    # says so as the reason for that rig's null (see plugins.null_reasons).
+    needs: tuple[str, ...] = ()
 
 
 class NoParams(Strict):
@@ -66,6 +70,15 @@ class Calculator:
 
     def compute(self, batch: RigBatch, params: BaseModel) -> dict[str, np.ndarray]:
         raise NotImplementedError
+
+    def null_reasons(self, batch: RigBatch, params: BaseModel) -> Mapping[str, np.ndarray]:
+        """Why outputs are null, where the calculator knows better than "an input is missing".
+
+        Returns ``{output: text array}`` broadcasting to the batch, "" where it has nothing to say
+        (the answer then falls back on the output's ``needs`` and the missing inputs). Called only
+        for a comparison in which some output is null. Default: nothing to add.
+        """
+        return {}
 
     def output_units(self, batch: RigBatch, params: BaseModel) -> dict[str, str]:
         """Units of the outputs for this batch; override when a unit depends on the input

@@ -56,6 +56,12 @@ class Account(SQLModel, table=True):
     location: str = Field(default="", sa_column=Column(String(200), nullable=False))
     contact_url: str = Field(default="", sa_column=Column(String(500), nullable=False))
     created_at: datetime = _timestamp()
+    # The site a club's page and comparisons use by default (SET NULL: deleting the site clears it).
+    default_site_id: int | None = Field(
+        default=None,
+        sa_column=Column(ID, ForeignKey("sites.id", ondelete="SET NULL", use_alter=True,
+                                        name="fk_accounts_default_site_id_sites"), index=True),
+    )
 
 
 class ApiKey(SQLModel, table=True):
@@ -103,6 +109,12 @@ class ModifierRow(StoredItem, table=True):
 
 class MountRow(StoredItem, table=True):
     __tablename__ = "mounts"
+
+
+class SiteRow(StoredItem, table=True):
+    """An observing site (its conditions in ``spec``, see calculators.site.Site)."""
+
+    __tablename__ = "sites"
 
 
 def _reference(table: str) -> Any:

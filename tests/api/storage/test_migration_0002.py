@@ -11,7 +11,7 @@ from fastapi.testclient import TestClient
 from sqlmodel import Session
 
 from api.app import create_app
-from api.accounts.keys import create_account
+from api.accounts.keys import hash_key, new_key
 from api.storage import db
 from api.storage.models import AccountKind, MountRow, RigRow, TelescopeRow
 
@@ -36,7 +36,14 @@ def _old_database(engine):
     """A database at revision 0001 holding items in the old words, as the previous release stored them."""
     db.upgrade(engine, "0001")
     with Session(engine) as session:
-        account, key = create_account(session, "olduser", AccountKind.person)
+        owner = session.execute(text(
+            "INSERT INTO accounts (name, kind, display_name, location, contact_url, created_at) "
+            "VALUES ('olduser', 'person', 'olduser', '', '', :now) RETURNING id"), {"now": datetime.now(UTC)}).scalar_one()
+        key = new_key()
+        session.execute(text("INSERT INTO api_keys (account_id, key_hash, prefix, scope, created_at) "
+                             "VALUES (:owner, :hash, :prefix, 'write', :now)"),
+                        {"owner": owner, "hash": hash_key(key), "prefix": key[:10], "now": datetime.now(UTC)})
+        account = type("OldAccount", (), {"id": owner})
         ids = [
             _insert(session, "telescopes", owner_id=account.id, visibility="public", name="fast imager", spec=OLD_TELESCOPE),
             _insert(session, "telescopes", owner_id=account.id, visibility="public", name="stated", spec=STATED_TELESCOPE),
