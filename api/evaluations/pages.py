@@ -90,7 +90,7 @@ def _page(request: Request, caller, item_id: int) -> str:
     base = f"/v1/evaluations/saved/{row.id}"
     page = saved.report_path(row.id)
     return render(
-        saved.saved_request(row), saved.saved_components(row), saved.EvaluationResult.model_validate(row.result),
+        saved.saved_spec(row), saved.saved_components(row), saved.EvaluationResult.model_validate(row.result),
         request.app.state.registry, title=row.name or f"Evaluation {row.id}", entries=entries,
         owner=owner, saved_at=aware(row.created_at).strftime("%Y-%m-%d %H:%M UTC"), visibility=row.visibility,
         rerun=f"{base}/rerun",
@@ -116,7 +116,7 @@ async def evaluation_report(item_id: str, request: Request, caller: Caller) -> R
 
 def _chart(request: Request, caller, item_id: int, which: str) -> str | None:
     row, _owner, _stored = _load(request, caller, item_id)
-    context = report.context(saved.saved_request(row), saved.saved_components(row),
+    context = report.context(saved.saved_spec(row), saved.saved_components(row),
                              saved.EvaluationResult.model_validate(row.result), request.app.state.registry)
     return context[which]
 
@@ -143,9 +143,10 @@ async def objectives_picture(item_id: str, request: Request, caller: Caller) -> 
 
 def _draw(request: Request, caller, body: EvaluationRequest) -> str:
     state = request.app.state
-    components, _ids, result = saved.compute(state.engine, caller, body, registry=state.registry,
-                                             maximum=state.settings.max_combinations, max_front_rows=MAX_FRONT_ROWS)
-    return render(body, components, result, state.registry, title="Purchase evaluation", standalone=True)
+    components, _ids, spec, result = saved.compute(state.engine, caller, body, registry=state.registry,
+                                                   maximum=state.settings.max_combinations,
+                                                   max_front_rows=MAX_FRONT_ROWS)
+    return render(spec, components, result, state.registry, title="Purchase evaluation", standalone=True)
 
 
 @router.post(

@@ -69,6 +69,17 @@ def label_of(key: str, calculators: Mapping) -> str:
     return words[:1].upper() + words[1:]
 
 
+def unit_of(key: str, units: Mapping[str, str], calculators: Mapping) -> str:
+    """The unit shown for an output: its own, or "× baseline" for a ratio to the baseline."""
+    if units.get(key):
+        return units[key]
+    name, _, output = key.partition(".")
+    for declared in getattr(calculators.get(name), "outputs", ()):
+        if declared.name == output and declared.relative:
+            return "× baseline"
+    return ""
+
+
 def bounds_text(bounds, unit: str) -> str:
     unit = f" {unit}" if unit else ""
     low, high = bounds.min, bounds.max
@@ -250,7 +261,7 @@ def context(spec: EvaluationSpec, components, result: EvaluationResult, registry
     constraints = {canonical(k, calculators): b for k, b in spec.constraints.items()}
     keys = list(objectives)
     units = result.units
-    axes = [charts.Axis(k, label_of(k, calculators), units.get(k, ""), objectives[k]) for k in keys]
+    axes = [charts.Axis(k, label_of(k, calculators), unit_of(k, units, calculators), objectives[k]) for k in keys]
     drawn = sample(components, spec, calculators)
     feasible = int(drawn.feasible.sum())
     cloud = []
@@ -304,6 +315,7 @@ def context(spec: EvaluationSpec, components, result: EvaluationResult, registry
         "changed": [e for e in entries if e.status == "changed"],
         "axes": axes, "no_front": not result.front,
         "general_cautions": CAUTIONS,
+        "site": getattr(result, "site", None),
     }
 
 

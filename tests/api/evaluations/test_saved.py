@@ -210,3 +210,14 @@ def test_the_components_kept_are_copies_of_what_was_computed(client, alice):
     item = save(client, alice)
     assert item["request"]["cameras"] == CAMERAS and item["request"]["mounts"] == MOUNTS
     assert item["request"]["modifiers"] == MODIFIERS
+
+
+def test_a_site_fills_the_params_as_in_the_unsaved_route_and_the_page_names_it(client, alice):
+    site = {"name": "hill top", "seeing_fwhm_arcsec": 3.5, "sky_brightness_mag_arcsec2": 19.5}
+    item = save(client, alice, site=site)
+    reference = client.post("/v1/evaluations", json=request(site=site)).json()
+    assert item["result"] == reference
+    page = client.get(item["report_url"], headers=alice.headers)
+    assert page.status_code == 200 and 'id="site"' in page.text and "hill top" in page.text
+    rerun = client.post(f"/v1/evaluations/saved/{item['id']}/rerun", headers=alice.headers).json()
+    assert rerun["result"] == reference and rerun["changes"]["values"] == []
