@@ -20,12 +20,13 @@ from starlette.concurrency import run_in_threadpool
 from api import tuning
 from api.accounts import routes as accounts
 from api.clubs import page as club_page
+from api.clubs import loan_routes, member_routes
 from api.clubs import routes as clubs
 from api.comparisons import routes as comparisons
 from api.comparisons.fast_lane import ComparisonFastLane
 from api.discovery import calculators
 from api.discovery import plugins as plugins_routes
-from api.equipment import cameras, modifiers, mounts, rigs, telescopes
+from api.equipment import cameras, modifiers, mounts, retire, rigs, telescopes
 from api.evaluations import pages as evaluation_pages
 from api.evaluations import routes as evaluations
 from api.evaluations import saved_routes as saved_evaluations
@@ -57,6 +58,8 @@ near the Sun without a proper full-aperture solar filter.
 ROUTERS = (
     health, comparisons, calculators, plugins_routes, accounts, telescopes, cameras, modifiers,
     mounts, rigs, sites, default_site, evaluations, saved_evaluations, evaluation_pages, clubs, club_page,
+    # club operations (issue 13)
+    retire, member_routes, loan_routes,
 )
 
 
