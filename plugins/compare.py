@@ -56,10 +56,11 @@ def compare(
     for name, calc in chosen.items():
         outcome = run(calc, batch, parsed[name])
         units = outcome.units
+        labels = {o.name: o.shown_label for o in calc.outputs}
         results[name] = {
             "version": calc.version,
             "outputs": {
-                out: {"unit": units[out], "values": to_json_values(values)}
+                out: {"label": labels.get(out, out), "unit": units[out], "values": to_json_values(values)}
                 for out, values in outcome.values.items()
             },
             "cautions": list(calc.cautions),

@@ -103,14 +103,18 @@ class Sampling(Calculator):
     summary = "Pixel scale, field of view, and how the pixels sample the seeing."
     Params = SamplingParams
     outputs = (
-        Output("pixel_scale_arcsec", "arcsec", "Angle on the sky covered by one pixel."),
-        Output("field_width_arcmin", "arcmin", "Field of view along the sensor's width."),
-        Output("field_height_arcmin", "arcmin", "Field of view along the sensor's height."),
-        Output("field_diagonal_arcmin", "arcmin", "Field of view along the sensor's diagonal."),
-        Output("pixels_per_fwhm", "", "Pixels across the seeing FWHM."),
+        Output("pixel_scale_arcsec", "arcsec", "Angle on the sky covered by one pixel.", label="Pixel scale"),
+        Output("field_width_arcmin", "arcmin", "Field of view along the sensor's width.",
+               label="Field width"),
+        Output("field_height_arcmin", "arcmin", "Field of view along the sensor's height.",
+               label="Field height"),
+        Output("field_diagonal_arcmin", "arcmin", "Field of view along the sensor's diagonal.",
+               label="Field diagonal"),
+        Output("pixels_per_fwhm", "", "Pixels across the seeing FWHM.", label="Pixels per seeing FWHM"),
         Output("sampling_verdict", "", "under-sampled, well-sampled or over-sampled, by the "
-               "min/max pixels per FWHM criterion.", kind="text"),
-        Output("suggested_binning", "", "Coarsest binning that keeps at least min_pixels_per_fwhm."),
+               "min/max pixels per FWHM criterion.", kind="text", label="Sampling"),
+        Output("suggested_binning", "", "Coarsest binning that keeps at least min_pixels_per_fwhm.",
+               label="Suggested binning", integer=True),
     )
     # Renamed in 1.1.0; the old names are still accepted in evaluations for one release.
     renamed_outputs = {
