@@ -24,12 +24,16 @@ from api.comparisons import routes as comparisons
 from api.discovery import calculators
 from api.discovery import plugins as plugins_routes
 from api.equipment import cameras, modifiers, mounts, rigs, telescopes
+from api.evaluations import pages as evaluation_pages
 from api.evaluations import routes as evaluations
+from api.evaluations import saved_routes as saved_evaluations
 from api.http import health, problems, request_log
 from api.http.body_limit import BodySizeLimit
 from api.http.health import _version
 from api.http.ratelimit import RateLimits
 from api.settings import Settings
+from api.sites import default as default_site
+from api.sites import resource as sites
 from api.storage import db
 from plugins.registry import load_registry
 
@@ -50,7 +54,7 @@ near the Sun without a proper full-aperture solar filter.
 # Hot routes first: the router tries routes in this order.
 ROUTERS = (
     health, comparisons, calculators, plugins_routes, accounts, telescopes, cameras, modifiers,
-    mounts, rigs, evaluations, clubs, club_page,
+    mounts, rigs, sites, default_site, evaluations, saved_evaluations, evaluation_pages, clubs, club_page,
 )
 
 

@@ -12,6 +12,7 @@ from typing import Annotated, Any
 
 from pydantic import BaseModel, ConfigDict, Discriminator, Field, Tag, create_model, field_validator, model_validator
 
+from api.http.problems import FieldError
 from api.storage.models import AccountKind, KeyScope, Visibility
 from calculators.schemas import (
     Accessory,
@@ -25,6 +26,7 @@ from calculators.schemas import (
     Telescope,
     upgrade_old_mount,
 )
+from calculators.site import Site
 
 MAX_ID = 2**63 - 1
 Id = Annotated[int, Field(ge=1, le=MAX_ID)]
@@ -73,6 +75,16 @@ class ItemMeta(BaseModel):
     version: int = Field(description="Starts at 1, grows by one on each change; the ETag carries it.")
     created_at: datetime
     updated_at: datetime
+    invalid: bool = Field(
+        default=False,
+        description="True when the stored item no longer meets the current schema (limits tightened "
+        "since it was stored, an old migration, a manual edit): its values are shown as stored, "
+        "`invalid_reasons` names each field to fix, and a PATCH or PUT that fixes them repairs it. "
+        "Comparisons skip an invalid rig and say why.",
+    )
+    invalid_reasons: list[FieldError] = Field(
+        default_factory=list, description="Why the item is invalid, one entry per field; empty when it is valid."
+    )
 
 
 class ListMeta(BaseModel):
@@ -125,6 +137,7 @@ TELESCOPE = EquipmentSchemas(Telescope, "telescope")
 CAMERA = EquipmentSchemas(Camera, "camera")
 MODIFIER = EquipmentSchemas(Modifier, "modifier")
 MOUNT = EquipmentSchemas(Mount, "mount", upgrade=lambda cls, data: upgrade_old_mount(data))
+SITE = EquipmentSchemas(Site, "site")
 
 
 # --- rigs -----------------------------------------------------------------------------------------
@@ -156,7 +169,8 @@ RigUpdate = create_model(
 class RigPublic(ItemMeta, RigSlots):
     model_config = ConfigDict(extra="ignore")
 
-    resolved: Rig = Field(description="The rig with every stored component filled in.")
+    resolved: Rig = Field(description="The rig with every stored component filled in (as stored, "
+                          "when `invalid`).")
 
 
 class RigList(ListMeta):
@@ -175,6 +189,9 @@ class AccountPublic(BaseModel):
     location: str
     contact_url: str
     created_at: datetime
+    default_site_id: int | None = Field(
+        default=None, description="The public site the account's club page and comparisons use by default."
+    )
 
 
 class Me(AccountPublic):
@@ -237,6 +254,10 @@ class ComparisonRequest(Strict):
     baseline: int = Field(default=0, ge=0, description="Index into rigs of the rig others are relative to.")
     params: dict[str, dict[str, Any]] = Field(
         default_factory=dict, description="Params per calculator name."
+    )
+    site: slot(Site) | None = Field(
+        default=None, description='An observing site, inline or {"id": N} of a stored one you may read: '
+        "its conditions fill every calculator param of the same meaning that `params` does not state.",
     )
 
 

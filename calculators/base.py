@@ -25,6 +25,7 @@ from __future__ import annotations
 
 from collections.abc import Mapping
 from dataclasses import dataclass
+from collections.abc import Mapping
 from typing import ClassVar, Literal
 
 import numpy as np
@@ -75,6 +76,9 @@ class Output:
     def shown_label(self) -> str:
         """The declared label, or one derived from the name."""
         return self.label if self.label else derived_label(self.name)
+    # Batch columns the output cannot do without: where one is missing (NaN) for a rig, the answer
+    # says so as the reason for that rig's null (see plugins.null_reasons).
+    needs: tuple[str, ...] = ()
 
 
 class NoParams(Strict):
@@ -97,6 +101,15 @@ class Calculator:
 
     def compute(self, batch: RigBatch, params: BaseModel) -> dict[str, np.ndarray]:
         raise NotImplementedError
+
+    def null_reasons(self, batch: RigBatch, params: BaseModel) -> Mapping[str, np.ndarray]:
+        """Why outputs are null, where the calculator knows better than "an input is missing".
+
+        Returns ``{output: text array}`` broadcasting to the batch, "" where it has nothing to say
+        (the answer then falls back on the output's ``needs`` and the missing inputs). Called only
+        for a comparison in which some output is null. Default: nothing to add.
+        """
+        return {}
 
     def output_units(self, batch: RigBatch, params: BaseModel) -> dict[str, str]:
         """Units of the outputs for this batch; override when a unit depends on the input

@@ -14,6 +14,7 @@ from pydantic import BaseModel, BeforeValidator, ConfigDict, Field, ValidationIn
 
 from calculators.units import (
     Micrometres,
+    Millimetres,
     NonNegativeKilograms,
     NonNegativeMillimetres,
     PositiveKilograms,
@@ -25,6 +26,13 @@ Throughput = Annotated[float, Field(gt=0, le=1)]
 
 
 MIN_FOCAL_RATIO = 0.5
+
+#: Largest aperture: 50 m, above the largest telescopes ever planned (about 40 m).
+MAX_APERTURE_MM = 50_000.0
+#: Longest focal length: 1 km (the longest effective focal lengths of giant telescopes' instruments
+#: are some hundreds of metres; an amateur's, a few metres). Every other length: 1 km as well
+#: (calculators.units.MAX_LENGTH_MM); every mass at most 100 t (MAX_MASS_KG).
+MAX_FOCAL_LENGTH_MM = 1_000_000.0
 
 
 def check_focal_ratio(ratio: float) -> None:
@@ -105,8 +113,12 @@ class Telescope(Strict):
     design: Annotated[Design, BeforeValidator(_old_design)] = Field(
         default=Design.other, description="Optical design; sets default transmission, spikes, coma."
     )
-    aperture_mm: PositiveMillimetres
-    focal_length_mm: PositiveMillimetres
+    aperture_mm: Annotated[Millimetres, Field(gt=0, le=MAX_APERTURE_MM)] = Field(
+        description="Clear aperture (at most 50 m)."
+    )
+    focal_length_mm: Annotated[Millimetres, Field(gt=0, le=MAX_FOCAL_LENGTH_MM)] = Field(
+        description="Focal length of the bare telescope (at most 1 km)."
+    )
     obstruction_mm: NonNegativeMillimetres = Field(
         default=0.0, description="Central obstruction diameter; 0 for an unobstructed design."
     )
@@ -235,7 +247,7 @@ class Mount(Strict):
     name: Name | None = None
     type: MountType = Field(default=MountType.german_equatorial, description="Mount geometry.")
     drive: Drive | None = Field(default=None, description="Gearing of the axes, when known.")
-    capacity_kg: PositiveKilograms = Field(description="Rated instrument payload.")
+    capacity_kg: PositiveKilograms = Field(description="Rated instrument payload (at most 100 t).")
     mass_kg: NonNegativeKilograms | None = None
     price: Price | None = None
 

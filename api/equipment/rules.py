@@ -31,6 +31,7 @@ from sqlmodel import Session, select
 
 from api import schemas
 from api.accounts.keys import Principal
+from api.equipment.readable import present as present_item
 from api.http.problems import ApiProblem, FieldError, from_validation_error
 from api.storage.models import CameraRow, ModifierRow, MountRow, RigRow, StoredItem, TelescopeRow, Visibility
 from api.storage.store import aware, fetch_by_ids, lock_rows, readable_by
@@ -80,7 +81,7 @@ def _equipment_prepare(_session: Session, _principal: Principal, body: BaseModel
 
 def _equipment_present(public: type[BaseModel]):
     def present(_session: Session, rows: Sequence[tuple[StoredItem, str]]) -> list[BaseModel]:
-        return [public.model_validate({**row.spec, **meta(row, owner)}) for row, owner in rows]
+        return [present_item(public, {**row.spec, **meta(row, owner)}) for row, owner in rows]
 
     return present
 
@@ -130,13 +131,11 @@ def _equipment_hooks(label: str):
                     "public rigs and other accounts' rigs need it to stay public",
                 )
         if values["spec"] != row.spec:
-            broken = []
-            specs = stored_rig_specs(session, rigs, override={(label, row.id): values["spec"]})
-            for rig, spec in zip(rigs, specs):
-                try:
-                    Rig.model_validate(spec)
-                except ValidationError:
-                    broken.append(rig)
+            after = stored_rig_specs(session, rigs, override={(label, row.id): values["spec"]})
+            broken = [rig for rig, spec in zip(rigs, after) if not _valid(spec)]
+            if broken:  # a rig that was invalid already does not hold up a change (a repair, say)
+                before = stored_rig_specs(session, broken)
+                broken = [rig for rig, spec in zip(broken, before) if _valid(spec)]
             if broken:
                 raise _used_by(label, row.id, broken, principal, "the change would make them invalid")
 
@@ -146,6 +145,14 @@ def _equipment_hooks(label: str):
             raise _used_by(label, row.id, rigs, principal, "change or delete those rigs first")
 
     return before_change, before_delete
+
+
+def _valid(spec: dict) -> bool:
+    try:
+        Rig.model_validate(spec)
+    except ValidationError:
+        return False
+    return True
 
 
 def _equipment(path: str, label: str, table: type[StoredItem], bodies: schemas.EquipmentSchemas) -> Resource:
@@ -287,7 +294,7 @@ def _rig_prepare(session: Session, principal: Principal, body: BaseModel) -> dic
 def _rig_present(session: Session, rows: Sequence[tuple[StoredItem, str]]) -> list[BaseModel]:
     specs = stored_rig_specs(session, [row for row, _ in rows])
     return [
-        schemas.RigPublic.model_validate({**row.spec, **meta(row, owner), "resolved": spec})
+        present_item(schemas.RigPublic, {**row.spec, **meta(row, owner), "resolved": spec})
         for (row, owner), spec in zip(rows, specs)
     ]
 

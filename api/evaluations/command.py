@@ -21,6 +21,7 @@ from collections.abc import Mapping, Sequence
 from pathlib import Path
 from typing import Any, TextIO
 
+from api.evaluations import report_file
 from api.settings import Settings
 
 KINDS = ("telescope", "camera", "modifier", "mount")
@@ -50,6 +51,7 @@ def add_evaluate(subparsers: argparse._SubParsersAction) -> None:
                         help="computing here: most combinations held in memory at once (default "
                         "about a million, some hundreds of MB); smaller bounds memory")
     parser.add_argument("--quiet", action="store_true", help="no progress bar")
+    report_file.add_report_option(parser)
     parser.set_defaults(handler=run_evaluate)
 
 
@@ -66,6 +68,12 @@ def run_evaluate(args: argparse.Namespace, settings: Settings) -> int:
     except _Unavailable as exc:
         print(f"error: {exc}", file=sys.stderr)
         return 1
+    if args.report:
+        try:
+            report_file.write_report(args, body, answer, settings)
+        except report_file.ReportFailed as exc:
+            print(f"error: {exc}", file=sys.stderr)
+            return 2
     if args.json:
         json.dump(answer, sys.stdout, indent=2, ensure_ascii=False)
         sys.stdout.write("\n")

@@ -13,6 +13,11 @@ Formulas (units in the names; f is the effective focal length after the modifier
 * ``suggested_binning``: the coarsest binning b (1 … ``max_binning``) that still keeps
   ``pixels_per_fwhm / b ≥ min_pixels_per_fwhm`` — 1 when the sensor is not over-sampled enough to bin.
 
+* ``colour_pixel_scale_arcsec``: a colour (Bayer) sensor samples each colour on a grid of 2 × 2 cells,
+  so its colour sampling is twice the pixel scale (convention, common practice: the green pixels'
+  diagonal grid is finer, the red and blue ones are every other pixel each way); a mono sensor
+  samples every colour at its pixel scale. ``colour_pixels_per_fwhm`` is the seeing FWHM over it.
+
 Example: 3.8 µm pixels at 1200 mm give 206.265 · 3.8 / 1200 ≈ 0.653″ per pixel, so 2″ seeing spans
 about 3.1 pixels: "over-sampled", and 1 × 1 binning is suggested (2 × 2 would give 1.5 pixels).
 """
@@ -115,6 +120,11 @@ class Sampling(Calculator):
                "min/max pixels per FWHM criterion.", kind="text", label="Sampling"),
         Output("suggested_binning", "", "Coarsest binning that keeps at least min_pixels_per_fwhm.",
                label="Suggested binning", integer=True),
+        Output("colour_pixel_scale_arcsec", "arcsec", "Sampling of each colour: twice the pixel scale "
+               "for a colour (Bayer) sensor, the pixel scale for a mono one.", nullable=True,
+               label="Colour pixel scale"),
+        Output("colour_pixels_per_fwhm", "", "Seeing FWHM over the colour sampling.", nullable=True,
+               label="Colour pixels per seeing FWHM"),
     )
     # Renamed in 1.1.0; the old names are still accepted in evaluations for one release.
     renamed_outputs = {
@@ -126,6 +136,7 @@ class Sampling(Calculator):
         "Pixel scale p/f and field 2·atan(w/2f): plane geometry; 648 000/π arcsec per radian.",
         "Two samples per resolution element: Nyquist 1928, Shannon 1949 (sampling theorem); "
         "the 2–3 pixels per FWHM band: common practice.",
+        "Colour sampling of a Bayer mosaic at twice the pixel pitch: common practice.",
     )
 
     def compute(self, batch: RigBatch, params: SamplingParams) -> dict[str, np.ndarray]:
@@ -138,6 +149,8 @@ class Sampling(Calculator):
         # Verdict and binning from numbers; only the final lookup makes strings (one per rig).
         code = (ppf >= params.min_pixels_per_fwhm).astype(np.int8)
         code += ppf > params.max_pixels_per_fwhm
+        sensor = batch.columns.get("sensor")
+        colour = scale if sensor is None else np.where(np.asarray(sensor) == "colour", 2.0 * scale, scale)
         binning = np.clip(np.floor(ppf / params.min_pixels_per_fwhm), 1, params.max_binning)
         return {
             "pixel_scale_arcsec": scale,
@@ -147,4 +160,6 @@ class Sampling(Calculator):
             "pixels_per_fwhm": ppf,
             "sampling_verdict": VERDICTS[code],
             "suggested_binning": binning.astype(np.int16),
+            "colour_pixel_scale_arcsec": colour,
+            "colour_pixels_per_fwhm": params.seeing_fwhm_arcsec / colour,
         }

@@ -198,3 +198,24 @@ def test_params_are_validated():
         SamplingParams(seeing_fwhm_arcsec=0)
     with pytest.raises(ValidationError, match="Extra inputs"):
         SamplingParams(seeing=2)
+
+
+def test_colour_sampling_is_twice_the_pixel_scale_for_a_bayer_sensor_and_equal_for_mono():
+    # Convention (common practice): a Bayer mosaic samples each colour on 2 × 2 cells.
+    import numpy as np
+
+    from calculators.batch import RigBatch
+    from calculators.builtin.sampling import Sampling, SamplingParams
+    from calculators.schemas import Rig
+
+    rig = Rig(name="r", telescope={"aperture_mm": 200, "focal_length_mm": 1200},
+              camera={"pixel_size_um": 3.8, "width_px": 4000, "height_px": 3000})
+    plain = RigBatch.from_rigs([rig, rig])
+    batch = RigBatch(columns={**plain.columns, "sensor": np.array(["mono", "colour"])}, baseline=(0,))
+    out = Sampling().compute(batch, SamplingParams(seeing_fwhm_arcsec=3.0))
+    scale = out["pixel_scale_arcsec"]
+    assert out["colour_pixel_scale_arcsec"].tolist() == [scale[0], 2 * scale[1]]
+    assert out["colour_pixels_per_fwhm"][1] == 3.0 / (2 * scale[1])
+    # Without a sensor column (no sensor stated): the pixel scale, as for mono.
+    plain_out = Sampling().compute(plain, SamplingParams())
+    assert (plain_out["colour_pixel_scale_arcsec"] == plain_out["pixel_scale_arcsec"]).all()
