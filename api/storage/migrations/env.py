@@ -37,35 +37,28 @@ def run_migrations_offline() -> None:
         context.run_migrations()
 
 
-def _sqlite_foreign_keys(connection, on: bool) -> None:
-    # Straight to the driver: the pragma does nothing inside a transaction, and a statement through
-    # SQLAlchemy would begin one first (api.storage.db begins every transaction itself).
-    connection.connection.driver_connection.execute(f"PRAGMA foreign_keys={'ON' if on else 'OFF'}")
-
-
 def run_migrations_online() -> None:
     engine = _engine()
     with engine.connect() as connection:
-        # Batch mode copies a table, drops the old one and renames the copy. With foreign keys on,
-        # SQLite runs the drop's ON DELETE CASCADE: copying `accounts` would delete every item its
-        # rows own. So foreign keys are off while migrating (as SQLite's ALTER TABLE guide advises)
-        # and checked before the migration's transaction commits.
         sqlite = connection.dialect.name == "sqlite"
         if sqlite:
-            _sqlite_foreign_keys(connection, False)
+            # Batch mode copies a table and drops the old one; with foreign keys on, that DROP deletes
+            # every row that references it ON DELETE CASCADE (all equipment, when the table is
+            # accounts). Off for the migration (it cannot change inside a transaction), checked after.
+            connection.connection.driver_connection.execute("PRAGMA foreign_keys=OFF")
+        # render_as_batch: SQLite cannot ALTER most things in place; batch mode copies the table.
+        context.configure(connection=connection, target_metadata=target_metadata, render_as_batch=True)
         try:
-            # render_as_batch: SQLite cannot ALTER most things in place; batch mode copies the table.
-            context.configure(connection=connection, target_metadata=target_metadata, render_as_batch=True)
             with context.begin_transaction():
                 context.run_migrations()
                 if sqlite:
                     broken = connection.exec_driver_sql("PRAGMA foreign_key_check").fetchall()
                     if broken:
-                        raise RuntimeError(f"the migration leaves rows with broken references: {broken[:5]}")
+                        raise RuntimeError(f"migration left rows whose references are missing: {broken[:5]}")
             connection.commit()
         finally:
             if sqlite:
-                _sqlite_foreign_keys(connection, True)
+                connection.connection.driver_connection.execute("PRAGMA foreign_keys=ON")
 
 
 if context.is_offline_mode():
