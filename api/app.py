@@ -37,6 +37,7 @@ from api.settings import Settings
 from api.sites import default as default_site
 from api.sites import resource as sites
 from api.storage import db
+from api.transfer import routes as transfer
 from plugins.registry import load_registry
 
 log = logging.getLogger("rigbench.api")
@@ -58,7 +59,7 @@ ROUTERS = (
     health, comparisons, calculators, plugins_routes, accounts, telescopes, cameras, modifiers,
     mounts, rigs, sites, default_site, evaluations, saved_evaluations, evaluation_pages, clubs, club_page,
     # club operations (issue 13)
-    retire, member_routes, loan_routes,
+    retire, member_routes, loan_routes, transfer,
 )
 
 
