@@ -160,11 +160,12 @@ class Cost(Calculator):
     Params = CostParams
     outputs = (
         Output("total_price", "", "Sum of the priced components, in the batch's one currency "
-               "(the unit is the currency code).", nullable=True),
+               "(the unit is the currency code).", nullable=True, label="Price"),
         Output("price_per_cm2", "", "Total price per cm² of clear aperture (net of the obstruction).",
-               nullable=True),
+               nullable=True, label="Price per aperture area"),
         Output("price_per_etendue_cm2_deg2", "",
-               "Total price per cm²·deg² of étendue (clear area × field solid angle).", nullable=True),
+               "Total price per cm²·deg² of étendue (clear area × field solid angle).", nullable=True,
+               label="Price per étendue"),
     )
     sources = (
         "Sum of prices (arithmetic); clear area π/4·(D² − d²) (plane geometry).",
