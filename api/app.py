@@ -25,6 +25,7 @@ from api.clubs import page as club_page
 from api.clubs import loan_routes, member_routes, members_page
 from api.clubs import routes as clubs
 from api.comparisons import routes as comparisons
+from api.comparisons.fast_lane import ComparisonFastLane
 from api.discovery import calculators
 from api.discovery import plugins as plugins_routes
 from api.equipment import cameras, modifiers, mounts, retire, rigs, telescopes
@@ -78,6 +79,7 @@ def create_app(settings: Settings | None = None) -> FastAPI:
             db.upgrade_if_behind(app.state.engine)
         elif warning := await run_in_threadpool(db.schema_warning, app.state.engine):
             log.warning(warning)
+        tuning.freeze_start_up_objects()  # full collections then skip what start-up built (api.tuning)
         yield
         app.state.engine.dispose()
 
@@ -101,6 +103,8 @@ def create_app(settings: Settings | None = None) -> FastAPI:
     problems.install(app)
     for module in ROUTERS:
         app.include_router(module.router)
+    # Innermost: anonymous JSON comparisons skip FastAPI's request machinery (api.comparisons.fast_lane).
+    app.add_middleware(ComparisonFastLane)
     app.add_middleware(BodySizeLimit, max_bytes=settings.max_body_bytes)
     # The members' page sign-in (api.clubs.members_page): a signed, expiring, HTTP-only, same-site cookie.
     app.add_middleware(
