@@ -99,6 +99,10 @@ def test_saving_needs_a_read_write_key(client, make_account):
     ({"name": "a\x00b"}, "name"),
     ({"objectives": {"cost.no_such_output": "min"}}, "objectives.cost.no_such_output"),
     ({"telescopes": [{"id": 424242}]}, "telescopes.0.id"),
+    # Found by fuzzing: a design or mount type that is not a string was a 500 (a dict looked up in
+    # the table of old names).
+    ({"mounts": [{"capacity_kg": 10, "type": {}}]}, "mounts.0.type"),
+    ({"telescopes": [{"aperture_mm": 100, "focal_length_mm": 500, "design": ["x"]}]}, "telescopes.0.design"),
 ])
 def test_bad_saves_are_problems_naming_the_field_and_store_nothing(client, alice, changes, field):
     assert_problem(client.post("/v1/evaluations/saved", json=saved_body(**changes), headers=alice.headers),
