@@ -60,15 +60,29 @@ class BodySizeLimit:
                 complete = not message.get("more_body", False)
             return message
 
-        await self.app(scope, limited, send)
+        started = False
 
-    async def _refuse(self, scope: Scope, send: Send) -> None:
+        async def tracked(message: Message) -> None:
+            nonlocal started
+            started = started or message["type"] == "http.response.start"
+            await send(message)
+
+        try:
+            await self.app(scope, limited, tracked)
+        except (BodyTooLarge, BodyTooSlow) as exc:
+            # Raised where no exception handler runs (a middleware reading the body itself).
+            if started:
+                raise
+            await self._refuse(scope, send, exc.status_code, exc.detail)
+
+    async def _refuse(self, scope: Scope, send: Send, status: int = 413, detail: str | None = None) -> None:
         body = json.dumps({
-            "type": "about:blank", "title": "Content Too Large", "status": 413,
-            "detail": f"the request body is larger than this server's limit of {self.max_bytes} bytes",
+            "type": "about:blank", "title": "Content Too Large" if status == 413 else "Request Timeout",
+            "status": status,
+            "detail": detail or f"the request body is larger than this server's limit of {self.max_bytes} bytes",
             "instance": scope.get("path", ""), "errors": [],
         }).encode()
-        await send({"type": "http.response.start", "status": 413, "headers": [
+        await send({"type": "http.response.start", "status": status, "headers": [
             (b"content-type", MEDIA_TYPE.encode()), (b"content-length", str(len(body)).encode()),
             (b"connection", b"close"),
         ]})
