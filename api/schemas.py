@@ -20,8 +20,10 @@ from pydantic import (
     Tag,
     create_model,
     field_validator,
+    model_validator,
 )
 
+from api.http.problems import FieldError
 from api.storage.models import AccountKind, KeyScope, Visibility
 from calculators.schemas import (
     Accessory,
@@ -33,11 +35,14 @@ from calculators.schemas import (
     Rig,
     Strict,
     Telescope,
+    upgrade_old_mount,
 )
+from calculators.site import Site
 from calculators.train_elements import (
     ELEMENT_MODELS,
     MAX_TRAIN_ELEMENTS,
     TAG_PREFIX,
+    ElementKind,
     TrainElement,
     element_tag,
     old_modifier_fields,
@@ -70,7 +75,8 @@ def slot(model: type[BaseModel]) -> Any:
 
 Visible = Annotated[
     Visibility,
-    Field(description="private: only the owner sees it; public: anyone may read it without a key."),
+    Field(description="private: only the owner (and a club's officers) see it; public: anyone may read it "
+          "without a key; members: a club's members and officers."),
 ]
 
 
@@ -90,6 +96,19 @@ class ItemMeta(BaseModel):
     version: int = Field(description="Starts at 1, grows by one on each change; the ETag carries it.")
     created_at: datetime
     updated_at: datetime
+    retired_at: datetime | None = Field(
+        default=None, description="When its owner retired it (gone from lists, new rigs and loans); null if in use."
+    )
+    invalid: bool = Field(
+        default=False,
+        description="True when the stored item no longer meets the current schema (limits tightened "
+        "since it was stored, an old migration, a manual edit): its values are shown as stored, "
+        "`invalid_reasons` names each field to fix, and a PATCH or PUT that fixes them repairs it. "
+        "Comparisons skip an invalid rig and say why.",
+    )
+    invalid_reasons: list[FieldError] = Field(
+        default_factory=list, description="Why the item is invalid, one entry per field; empty when it is valid."
+    )
 
 
 class ListMeta(BaseModel):
@@ -112,9 +131,11 @@ def _optional_fields(model: type[BaseModel]) -> dict[str, Any]:
 class EquipmentSchemas:
     """The four role-named bodies of one kind of equipment, built from its calculator schema."""
 
-    def __init__(self, spec: type[BaseModel], label: str):
+    def __init__(self, spec: type[BaseModel], label: str, upgrade=None):
         self.spec = spec
         title = label.capitalize()
+        # Old values a patch may still send for one release (the spec's own validators cover the rest).
+        old = {"_old_names": model_validator(mode="before")(upgrade)} if upgrade else {}
         self.create = create_model(
             f"{title}Create", __base__=spec, visibility=(Visible, Visibility.private),
             __doc__=f"A new {label}.", __validators__={"_name_has_no_nul": field_validator("name")(refuse_nul)},
@@ -122,6 +143,7 @@ class EquipmentSchemas:
         self.update = create_model(
             f"{title}Update", __base__=Strict, **_optional_fields(self.create),
             __doc__=f"Changes to a {label} (JSON merge patch: null resets a field to its default).",
+            __validators__=old,
         )
         # A class statement's worth of namespace, so model_config applies (extra keys in a stored
         # spec, say from an older schema, are dropped rather than failing the read).
@@ -155,6 +177,10 @@ class _Rooted(RootModel):
         return getattr(self.root, name)
 
 
+class _Flat(BaseModel):
+    model_config = ConfigDict(extra="ignore")
+
+
 class TrainElementSchemas:
     """The role-named bodies of a stored train element: one per kind, told apart by ``kind``.
 
@@ -172,20 +198,25 @@ class TrainElementSchemas:
                 model = getattr(bodies, role)
                 model.__name__ = model.__qualname__ = f"{title}Element{role.capitalize()}"
                 model.model_rebuild(force=True)
-        self.spec = TrainElement
         self.create = type("TrainElementCreate", (_Rooted[_element_union(
             {k: b.create for k, b in per_kind.items()})],), {
             "__module__": __name__, "__doc__": "A new train element (its fields depend on `kind`).",
-        })
-        self.public = type("TrainElementPublic", (_Rooted[_element_union(
-            {k: b.public for k, b in per_kind.items()})],), {
-            "__module__": __name__, "__doc__": "A stored train element.",
         })
         fields: dict[str, Any] = {}
         for bodies in per_kind.values():
             for name, spec in _optional_fields(bodies.create).items():
                 fields.setdefault(name, spec)
         fields["kind"] = (str | None, Field(default=None, description="The element's kind."))
+        # One flat model on the way out (fields a kind does not take are null), so views can add
+        # to it like to any other kind's public model.
+        shown = {n: f for n, f in fields.items() if n not in ("visibility", "kind")}
+        self.public = create_model(
+            "TrainElementPublic", __base__=(ItemMeta, _Flat), kind=(ElementKind, ...), **shown,
+            __doc__="A stored train element (fields its kind does not take are null).",
+        )
+        # Every field any kind takes, for tables and files listing the kind's columns (validation
+        # goes through `create`, told apart by kind).
+        self.spec = create_model("TrainElementFields", __base__=_Flat, kind=(ElementKind, ...), **shown)
         self.update = create_model(
             "TrainElementUpdate", __base__=Strict, **fields,
             __doc__="Changes to a train element (JSON merge patch: null resets a field to its "
@@ -200,7 +231,10 @@ class TrainElementSchemas:
 TELESCOPE = EquipmentSchemas(Telescope, "telescope")
 CAMERA = EquipmentSchemas(Camera, "camera")
 TRAIN_ELEMENT = TrainElementSchemas()
-MOUNT = EquipmentSchemas(Mount, "mount")
+#: The old name of the train elements' bodies (one release).
+MODIFIER = TRAIN_ELEMENT
+MOUNT = EquipmentSchemas(Mount, "mount", upgrade=lambda cls, data: upgrade_old_mount(data))
+SITE = EquipmentSchemas(Site, "site")
 
 
 # --- rigs -----------------------------------------------------------------------------------------
@@ -240,10 +274,25 @@ RigUpdate = create_model(
 )
 
 
+class CopiedPart(BaseModel):
+    """A part the rig holds as a copy, because its owner retired the item or made it private."""
+
+    slot: str
+    kind: str = Field(description="Kind of the item the copy was taken from, e.g. 'telescopes'.")
+    id: int = Field(description="Id of the item the copy was taken from.")
+    reason: str = Field(description="'retired' or 'made private'.")
+    taken_at: datetime
+
+
 class RigPublic(ItemMeta, RigSlots):
     model_config = ConfigDict(extra="ignore")
 
-    resolved: Rig = Field(description="The rig with every stored component filled in.")
+    resolved: Rig = Field(description="The rig with every stored component filled in (as stored, "
+                          "when `invalid`).")
+    copied_parts: list[CopiedPart] = Field(
+        default_factory=list, description="Parts kept as a copy of a retired or now-private item."
+    )
+    uses_retired_equipment: bool = Field(default=False, description="A part is a copy of retired equipment.")
 
 
 class RigList(ListMeta):
@@ -263,6 +312,9 @@ class AccountPublic(BaseModel):
     location: str
     contact_url: str
     created_at: datetime
+    default_site_id: int | None = Field(
+        default=None, description="The public site the account's club page and comparisons use by default."
+    )
 
 
 class Me(AccountPublic):
@@ -272,11 +324,13 @@ class Me(AccountPublic):
 # --- calculators ----------------------------------------------------------------------------------
 
 class OutputPublic(BaseModel):
-    name: str
+    name: str = Field(description="Output name, the key in results (a contract).")
+    label: str = Field(description="Short name for a person, e.g. 'Pixel scale'; shown with the unit.")
     unit: str = Field(description="pint-readable unit; '' when dimensionless.")
-    description: str
-    kind: str
-    nullable: bool
+    description: str = Field(description="What the figure is, with its formula.")
+    kind: str = Field(description="number, text or boolean.")
+    integer: bool = Field(description="A count: whole numbers.")
+    nullable: bool = Field(description="May be null where an optional input is missing.")
     relative: bool = Field(description="Depends on the baseline rig.")
 
 
@@ -323,6 +377,10 @@ class ComparisonRequest(Strict):
     baseline: int = Field(default=0, ge=0, description="Index into rigs of the rig others are relative to.")
     params: dict[str, dict[str, Any]] = Field(
         default_factory=dict, description="Params per calculator name."
+    )
+    site: slot(Site) | None = Field(
+        default=None, description='An observing site, inline or {"id": N} of a stored one you may read: '
+        "its conditions fill every calculator param of the same meaning that `params` does not state.",
     )
 
 

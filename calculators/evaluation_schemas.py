@@ -13,6 +13,7 @@ from typing import Annotated, Any, Literal
 from pydantic import BaseModel, Field, ValidationInfo, field_validator, model_validator
 
 from calculators.schemas import Camera, Modifier, Mount, Strict, Telescope
+from calculators.site import SiteUsed
 from calculators.train_elements import MAX_TRAIN_ELEMENTS, TrainElement, check_train, train_element
 
 #: Largest ``limit`` a request may ask for.
@@ -157,6 +158,12 @@ class EvaluationResult(BaseModel):
     baseline: EvaluationRow = Field(description="The baseline combination, feasible or not.")
     baseline_feasible: bool
     units: dict[str, str] = Field(description='Unit of each value key ("" when dimensionless).')
+    labels: dict[str, str] = Field(
+        default_factory=dict, description="Short name for a person of each value key, e.g. 'Pixel scale'."
+    )
     cautions: dict[str, list[str]] = Field(
         default_factory=dict, description="Cautions of the calculators used, by calculator."
+    )
+    site: SiteUsed | None = Field(
+        default=None, description="The observing site whose conditions filled the params (null: none)."
     )

@@ -13,7 +13,7 @@ from api.comparisons.csv_table import records_csv
 from api.schemas import CAMERA, MOUNT, RIG_SLOTS, TELESCOPE, Ref
 from calculators.train_elements import ELEMENT_MODELS
 
-SPECS = {"telescopes": [TELESCOPE.spec], "train_elements": list(ELEMENT_MODELS.values()),
+SPECS = {"telescopes": [TELESCOPE.spec], "modifiers": list(ELEMENT_MODELS.values()),
          "cameras": [CAMERA.spec], "mounts": [MOUNT.spec]}
 
 CLUB_COLUMNS = ["name", "display_name", "location", "contact_url", "created_at"]
@@ -56,12 +56,13 @@ def equipment_csv(equipment: ClubEquipment) -> str:
             columns += [c for c in _spec_columns(spec) if c not in columns]
     rows = []
     for path, resource in EQUIPMENT:
-        for item in getattr(equipment, path):
+        for item in getattr(equipment, "train_elements" if path == "modifiers" else path):
             flat = _flatten(item.model_dump(mode="json"))
             flat = {k: "; ".join(map(str, v)) if isinstance(v, list) else v for k, v in flat.items()}
-            rows.append([resource.label, item.id, item.name, *(flat.get(c) for c in columns)])
+            rows.append([resource.label, item.id, item.name, item.availability.value, item.due,
+                         *(flat.get(c) for c in columns)])
     # "equipment", not "kind": a train element has a field of that name.
-    return records_csv(["equipment", "id", "name", *columns], rows)
+    return records_csv(["equipment", "id", "name", "availability", "due", *columns], rows)
 
 
 RIG_COLUMNS = [

@@ -20,10 +20,12 @@ from sqlmodel import Session
 from starlette.responses import FileResponse, HTMLResponse, Response
 
 from api.clubs import queries as clubs
+from api.clubs.cache import serve_cached
 from api.clubs import view as club_view
 from api.http.negotiation import quality
 from api.http.problems import ApiProblem
 from api.schemas import MAX_ID
+from api.sites.conditions import OVERRIDES
 from calculators.builtin.catalogue import CREDIT
 from calculators.builtin.integration_time import SUN_CAUTION
 from calculators.builtin.target_fit import DEFAULT_TARGET
@@ -51,6 +53,16 @@ CAUTIONS = (
     SUN_CAUTION + " Look at the Sun only through a filter made for it, fitted securely over the front "
     "of the instrument, and cap or remove the finder.",
 )
+
+#: How the page names a site's values (field -> label, unit).
+SITE_FIELDS = {
+    "seeing_fwhm_arcsec": ("seeing (FWHM)", "″"),
+    "sky_brightness_mag_arcsec2": ("sky brightness", " mag/arcsec²"),
+    "night_temperature_c": ("night temperature", " °C"),
+    "relative_humidity_percent": ("humidity", " %"),
+    "latitude_deg": ("latitude", "°"),
+    "elevation_m": ("elevation", " m"),
+}
 
 # Page inputs are read as text and checked here, so a bad one gets a page that says what is wrong.
 BaselineText = Annotated[str | None, Query(description="Id of the baseline rig.")]
@@ -80,17 +92,24 @@ def _baseline(text: str | None) -> int | None:
     return int(text)
 
 
+#: The page's own query parameters; a site's fields (e.g. seeing_fwhm_arcsec) override its site.
+PAGE_QUERY = ("baseline", "target", "embed")
+
+
 def _gather(request: Request, name: str, baseline: str | None, target: str):
     state = request.app.state
     with Session(state.engine) as session:
         club = clubs.find_club(session, name)
+        # The page shows at most RIGBENCH_CLUB_PAGE_MAX_RIGS rigs, the oldest first (it says so).
+        shown = min(state.settings.club_page_max_rigs, state.settings.max_rigs_per_comparison)
         result = clubs.comparison(
             session, state.registry, club, baseline_id=_baseline(baseline), target=target,
-            max_rigs=state.settings.max_rigs_per_comparison,
+            max_rigs=shown, query=dict(request.query_params), known=PAGE_QUERY,
         )
         equipment = clubs.equipment(session, club, state.settings.max_page_size)
-        rigs, _total = clubs.rigs(session, club, state.settings.max_rigs_per_comparison, 0)
-    return club, result, equipment, rigs
+        rigs, _total = clubs.rigs(session, club, shown, 0)
+    # A rig whose stored spec no longer validates is left off the page (the JSON lists mark it).
+    return club, result, equipment, [rig for rig in rigs if not rig.invalid]
 
 
 def _problem_page(request: Request, problem: ApiProblem) -> HTMLResponse:
@@ -102,25 +121,31 @@ def _problem_page(request: Request, problem: ApiProblem) -> HTMLResponse:
 
 
 @router.get("/clubs/{name}", response_class=HTMLResponse, name="club_page")
-def club_page(
+async def club_page(
     name: str, request: Request, baseline: BaselineText = None, target: TargetText = DEFAULT_TARGET,
     embed: EmbedText = None,
-) -> HTMLResponse:
+) -> Response:
+    return await serve_cached(request, name, lambda: _club_page(name, request, baseline, target, embed))
+
+
+def _club_page(name: str, request: Request, baseline: str | None, target: str, embed: str | None) -> HTMLResponse:
     try:
         club, result, equipment, rigs = _gather(request, name[:100], baseline, target)
     except ApiProblem as problem:
         return _problem_page(request, problem)
     page_url = str(request.url_for("club_page", name=club.name))
     chosen = {"baseline": result.baseline_rig_id, "target": result.target} if result.rigs else {}
+    chosen.update({k: request.query_params[k] for k in OVERRIDES if k in request.query_params})
     query = "?" + urlencode(chosen) if chosen else ""
     return _html(
         "club.html",
         club=club, comparison=result, embed=(embed or "").lower() in {"1", "true", "yes"}, page_url=page_url,
-        table=club_view.comparison_table(result), figures=club_view.all_figures(result),
+        table=club_view.comparison_table(result),
+        figures=club_view.all_figures(result, counts=club_view.counts(request.app.state.registry)),
         fields=Markup(club_view.fields_picture(result) or ""), bars=Markup(club_view.bars_picture(result) or ""),
         equipment=club_view.equipment_tables(equipment), complete=equipment.complete,
         rigs=club_view.rigs_table(rigs), cautions=CAUTIONS, calculator_cautions=club_view.cautions(result),
-        credit=CREDIT, query=query, api=f"/v1/clubs/{club.name}",
+        credit=CREDIT, query=query, site_fields=SITE_FIELDS, api=f"/v1/clubs/{club.name}",
     )
 
 
@@ -137,17 +162,19 @@ def _svg(request: Request, name: str, baseline: str | None, target: str, draw) -
 
 
 @router.get("/clubs/{name}/fields.svg", name="club_fields_picture")
-def club_fields_picture(
+async def club_fields_picture(
     name: str, request: Request, baseline: BaselineText = None, target: TargetText = DEFAULT_TARGET,
 ) -> Response:
-    return _svg(request, name, baseline, target, club_view.fields_picture)
+    return await serve_cached(
+        request, name, lambda: _svg(request, name, baseline, target, club_view.fields_picture))
 
 
 @router.get("/clubs/{name}/bars.svg", name="club_bars_picture")
-def club_bars_picture(
+async def club_bars_picture(
     name: str, request: Request, baseline: BaselineText = None, target: TargetText = DEFAULT_TARGET,
 ) -> Response:
-    return _svg(request, name, baseline, target, club_view.bars_picture)
+    return await serve_cached(
+        request, name, lambda: _svg(request, name, baseline, target, club_view.bars_picture))
 
 
 @router.get("/static/{asset}", name="club_asset")

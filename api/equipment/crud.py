@@ -11,13 +11,22 @@ from pydantic import ValidationError
 from sqlalchemy.exc import IntegrityError
 
 from api.deps import Caller, ItemId, SessionDep, SettingsDep, Writer
+from api.equipment.readable import json_response
 from api.equipment.rules import Resource
 from api.http import problems
-from api.http.etags import IfMatch, etag, require_match
+from api.http.etags import IfMatch, etag, none_match, not_modified, require_match
 from api.http.problems import ApiProblem
 from api.schemas import HANDLE_PATTERN, MAX_ID
 from api.storage.models import Visibility
-from api.storage.store import delete_if_version, fetch_owned, fetch_readable, insert, list_items, update_if_version
+from api.storage.store import (
+    begin_write,
+    delete_if_version,
+    fetch_owned,
+    fetch_readable,
+    insert,
+    list_items,
+    update_if_version,
+)
 
 # Without If-Match an update re-reads and retries when another one got in first; this bounds that.
 MAX_ATTEMPTS = 20
@@ -35,11 +44,12 @@ def crud_router(resource: Resource) -> APIRouter:
 
     def change(session, principal, item_id: int, if_match: str | None, new_body) -> tuple[Any, str]:
         for _ in range(MAX_ATTEMPTS):
+            begin_write(session)  # the rules below are checked and the change made in one transaction
             row, owner = fetch_owned(session, table, item_id, principal, label)
             require_match(if_match, row.version, f"{label} {item_id}")
             values = resource.prepare(session, principal, new_body(row))
             resource.before_change(session, principal, row, values)
-            if update_if_version(session, table, item_id, row.version, values, commit=False):
+            if update_if_version(session, table, item_id, row.version, values, commit=False, actor=principal, before=row):
                 # Read our own write before committing: the answer shows the version this update
                 # made, even when another server's update follows at once. Detached, so the commit
                 # does not expire it and a later attribute access cannot load a newer version.
@@ -69,12 +79,12 @@ def crud_router(resource: Resource) -> APIRouter:
             **problems.responses(400, 401, 403, 413, 415, 422),
         },
     )
-    def create(body: Create, principal: Writer, session: SessionDep, request: Request, response: Response):
+    def create(body: Create, principal: Writer, session: SessionDep, request: Request):
+        begin_write(session)
         values = resource.prepare(session, principal, body)
         row = insert(session, table, principal, values)
-        response.headers["Location"] = str(request.url_for(f"get_{op}", item_id=row.id))
-        response.headers["ETag"] = etag(row.version)
-        return present_one(session, row, principal.account.name)
+        headers = {"Location": str(request.url_for(f"get_{op}", item_id=row.id)), "ETag": etag(row.version)}
+        return json_response(present_one(session, row, principal.account.name), 201, headers)
 
     @router.get(
         "", response_model=Page, operation_id=f"list_{resource.path.replace('-', '_')}",
@@ -98,28 +108,33 @@ def crud_router(resource: Resource) -> APIRouter:
         rows, total = list_items(
             session, table, caller, owner=owner, visibility=visibility, limit=limit, offset=offset
         )
-        return Page(items=resource.present(session, rows), total=total, limit=limit, offset=offset)
+        return json_response(Page.model_construct(
+            items=resource.present(session, rows), total=total, limit=limit, offset=offset))
 
     @router.get(
         "/{item_id}", response_model=Public, name=f"get_{op}", operation_id=f"get_{op}",
-        summary=f"Read one {label}", responses={**with_etag, **problems.responses(401, 404, 422)},
+        summary=f"Read one {label}", description="Send If-None-Match with the ETag you hold to get a "
+        "304 without a body when the item has not changed.",
+        responses={**with_etag, 304: {"description": "Not Modified: your copy (If-None-Match) is current."},
+                   **problems.responses(401, 404, 422)},
     )
-    def get(item_id: ItemId, session: SessionDep, caller: Caller, response: Response):
+    def get(item_id: ItemId, session: SessionDep, caller: Caller, request: Request):
         row, owner = fetch_readable(session, table, item_id, caller, label)
-        response.headers["ETag"] = etag(row.version)
-        return present_one(session, row, owner)
+        tag = etag(row.version)
+        if none_match(request.headers.get("if-none-match"), tag) and resource.parts_unchanged(session, row):
+            return not_modified(tag)  # the caller's copy is current: nothing to build or send
+        return json_response(present_one(session, row, owner), headers={"ETag": tag})
 
     @router.put(
         "/{item_id}", response_model=Public, operation_id=f"replace_{op}",
         summary=f"Replace a {label} you own", responses={**with_etag, **write_errors},
     )
     def replace(
-        item_id: ItemId, body: Create, principal: Writer, session: SessionDep, response: Response,
+        item_id: ItemId, body: Create, principal: Writer, session: SessionDep,
         if_match: IfMatch = None,
     ):
         row, owner = change(session, principal, item_id, if_match, lambda _row: body)
-        response.headers["ETag"] = etag(row.version)
-        return present_one(session, row, owner)
+        return json_response(present_one(session, row, owner), headers={"ETag": etag(row.version)})
 
     @router.patch(
         "/{item_id}", response_model=Public, operation_id=f"patch_{op}",
@@ -128,7 +143,7 @@ def crud_router(resource: Resource) -> APIRouter:
         "Send If-Match with the ETag you read to be sure nobody changed the item in between.",
     )
     def patch(
-        item_id: ItemId, body: Update, principal: Writer, session: SessionDep, response: Response,
+        item_id: ItemId, body: Update, principal: Writer, session: SessionDep,
         if_match: IfMatch = None,
     ):
         changes = body.model_dump(mode="json", exclude_unset=True)
@@ -146,21 +161,21 @@ def crud_router(resource: Resource) -> APIRouter:
                 raise problems.from_validation_error(exc) from None
 
         row, owner = change(session, principal, item_id, if_match, merged)
-        response.headers["ETag"] = etag(row.version)
-        return present_one(session, row, owner)
+        return json_response(present_one(session, row, owner), headers={"ETag": etag(row.version)})
 
     @router.delete(
         "/{item_id}", status_code=204, operation_id=f"delete_{op}", summary=f"Delete a {label} you own",
         responses=problems.responses(401, 403, 404, 409, 412, 422),
     )
     def delete(item_id: ItemId, principal: Writer, session: SessionDep, if_match: IfMatch = None) -> Response:
+        begin_write(session)
         row, _owner = fetch_owned(session, table, item_id, principal, label)
         require_match(if_match, row.version, f"{label} {item_id}")
         resource.before_delete(session, principal, row)
         # With a version to hold on to, delete only that version; `*` or no If-Match: any version.
         expected = row.version if if_match is not None and if_match.strip() != "*" else None
         try:
-            deleted = delete_if_version(session, table, item_id, expected)
+            deleted = delete_if_version(session, table, item_id, expected, actor=principal, before=row)
         except IntegrityError:
             # A rig started using it between our check and the delete: the foreign key said no.
             session.rollback()

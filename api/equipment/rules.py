@@ -10,9 +10,20 @@ Rules, enforced here and documented in README:
 * a public rig may reference only public equipment, so a public rig never shows a private item;
 * equipment a rig references cannot be deleted (409 naming the rigs); the database's foreign keys
   refuse it too, should two requests race;
-* equipment that rigs of other accounts or public rigs use cannot be made private (409), and a change
-  that would make a rig using it invalid (e.g. a focal ratio below the physical minimum with that
-  rig's reducer) is refused (409 naming the rigs).
+* equipment that the owner's own public rigs use cannot be made private (409); rigs of other accounts
+  never block it: they keep a copy of the item's spec (api.equipment.copies), as they do when the
+  owner retires it; a change that would make a rig using it invalid (e.g. a focal ratio below the
+  physical minimum with that rig's reducer) is refused (409 naming the rigs);
+* a retired item cannot go into a new rig.
+
+Every rule holds under concurrent requests, from any number of server processes: each is checked
+inside the writing transaction (:func:`api.storage.store.begin_write`) on rows locked as they are
+read. A rig's write locks every equipment row it references ``FOR SHARE`` (:func:`resolve_slots`
+with ``lock=True``); an equipment change locks that row ``FOR UPDATE``, then the rigs that use it.
+So the two cannot both pass their checks on what the other is about to change: one waits for the
+other's commit and checks what it made. Locks are taken in one order (equipment by kind and id,
+then rigs by id), so two writers never wait on each other. SQLite has no row locks:
+``BEGIN IMMEDIATE`` holds its single write lock from the first read instead.
 """
 
 from __future__ import annotations
@@ -26,6 +37,7 @@ from sqlmodel import Session, select
 
 from api import schemas
 from api.accounts.keys import Principal
+from api.equipment.readable import present as present_item
 from api.http.problems import ApiProblem, FieldError, from_validation_error
 from sqlalchemy import or_
 
@@ -39,7 +51,7 @@ from api.storage.models import (
     TrainElementRow,
     Visibility,
 )
-from api.storage.store import aware, fetch_by_ids, readable_by
+from api.storage.store import aware, fetch_by_ids, lock_rows, readable_by
 from calculators.schemas import Rig
 from calculators.train_elements import train_element
 
@@ -57,6 +69,7 @@ def meta(row: StoredItem, owner: str) -> dict[str, Any]:
     return {
         "id": row.id, "owner": owner, "visibility": row.visibility, "version": row.version,
         "created_at": aware(row.created_at), "updated_at": aware(row.updated_at),
+        "retired_at": aware(row.retired_at) if row.retired_at is not None else None,
     }
 
 
@@ -77,6 +90,9 @@ class Resource:
     present: Callable[[Session, Sequence[tuple[StoredItem, str]]], list[BaseModel]]
     before_change: Callable[[Session, Principal, StoredItem, dict[str, Any]], None] = lambda *a: None
     before_delete: Callable[[Session, Principal, StoredItem], None] = lambda *a: None
+    # Whether what the item shows besides its own row (a rig's stored equipment) is unchanged
+    # since the item's own last change: only then may If-None-Match on its version give a 304.
+    parts_unchanged: Callable[[Session, StoredItem], bool] = lambda *a: True
     tags: list[str] = field(default_factory=list)
     deprecated: bool = False
 
@@ -90,7 +106,7 @@ def _equipment_prepare(_session: Session, _principal: Principal, body: BaseModel
 
 def _equipment_present(public: type[BaseModel]):
     def present(_session: Session, rows: Sequence[tuple[StoredItem, str]]) -> list[BaseModel]:
-        return [public.model_validate({**row.spec, **meta(row, owner)}) for row, owner in rows]
+        return [present_item(public, {**row.spec, **meta(row, owner)}) for row, owner in rows]
 
     return present
 
@@ -101,6 +117,17 @@ def _rigs_using(session: Session, slot: str, item_id: int) -> list[RigRow]:
     else:
         used = getattr(RigRow, f"{slot}_id") == item_id
     return list(session.exec(select(RigRow).where(used).order_by(RigRow.id)).all())
+
+
+def _locked_rigs_using(session: Session, slot: str, row: StoredItem) -> list[RigRow]:
+    """The rigs using this item, read after locking the item (so no rig can start using it until
+    this transaction ends), each locked too (so no change of their other equipment can be checked
+    against what this one is about to change)."""
+    lock_rows(session, type(row), [row.id])
+    columns = TRAIN_COLUMNS if slot == TRAIN else (f"{slot}_id",)
+    users = [r.id for r in _rigs_using(session, slot, row.id)]
+    locked = lock_rows(session, RigRow, users)
+    return [r for r in locked.values() if any(getattr(r, c) == row.id for c in columns)]
 
 
 def _rig_list(rigs: Sequence[RigRow], principal: Principal) -> tuple[list[int], int]:
@@ -121,33 +148,43 @@ def _used_by(label: str, item_id: int, rigs: Sequence[RigRow], principal: Princi
 
 def _equipment_hooks(label: str, slot: str):
     def before_change(session: Session, principal: Principal, row: StoredItem, values: dict[str, Any]) -> None:
-        rigs = _rigs_using(session, slot, row.id)
+        rigs = _locked_rigs_using(session, slot, row)
         if not rigs:
             return
-        if values["visibility"] == Visibility.private.value:
-            exposed = [r for r in rigs if r.visibility == Visibility.public.value or r.owner_id != row.owner_id]
-            if exposed:
-                raise _used_by(
-                    label, row.id, exposed, principal,
-                    "public rigs and other accounts' rigs need it to stay public",
-                )
+        if values["visibility"] != Visibility.public.value and row.visibility == Visibility.public.value:
+            own_public = [r for r in rigs if r.visibility == Visibility.public.value and r.owner_id == row.owner_id]
+            if own_public:
+                raise _used_by(label, row.id, own_public, principal, "make those rigs private first")
+            others = [r for r in rigs if r.owner_id != row.owner_id]
+            if others:
+                # Other accounts' rigs keep a copy of the item as it is now; they cannot block its owner.
+                from api.equipment import copies
+
+                copies.copy_into(session, label, f"{label}s", row, others, copies.MADE_PRIVATE, principal)
+                rigs = [r for r in rigs if r.owner_id == row.owner_id]
         if values["spec"] != row.spec:
-            broken = []
-            specs = stored_rig_specs(session, rigs, override={(slot, row.id): values["spec"]})
-            for rig, spec in zip(rigs, specs):
-                try:
-                    Rig.model_validate(spec)
-                except ValidationError:
-                    broken.append(rig)
+            after = stored_rig_specs(session, rigs, override={(slot, row.id): values["spec"]})
+            broken = [rig for rig, spec in zip(rigs, after) if not _valid(spec)]
+            if broken:  # a rig that was invalid already does not hold up a change (a repair, say)
+                before = stored_rig_specs(session, broken)
+                broken = [rig for rig, spec in zip(broken, before) if _valid(spec)]
             if broken:
                 raise _used_by(label, row.id, broken, principal, "the change would make them invalid")
 
     def before_delete(session: Session, principal: Principal, row: StoredItem) -> None:
-        rigs = _rigs_using(session, slot, row.id)
+        rigs = _locked_rigs_using(session, slot, row)
         if rigs:
             raise _used_by(label, row.id, rigs, principal, "change or delete those rigs first")
 
     return before_change, before_delete
+
+
+def _valid(spec: dict) -> bool:
+    try:
+        Rig.model_validate(spec)
+    except ValidationError:
+        return False
+    return True
 
 
 def _element_prepare(session: Session, principal: Principal, body: BaseModel) -> dict[str, Any]:
@@ -191,10 +228,14 @@ class SlotRequest:
     slot_in_path: bool = True
 
 
-def resolve_slots(session: Session, principal: Principal | None, requests: Sequence[SlotRequest]) -> list[dict]:
+def resolve_slots(
+    session: Session, principal: Principal | None, requests: Sequence[SlotRequest], *, lock: bool = False
+) -> list[dict]:
     """Replace ``{"id": N}`` slots by the stored specs the caller may read; 422 naming each bad one.
 
-    One query per kind of equipment, however many rigs are given.
+    One query per kind of equipment, however many rigs are given. With ``lock`` (a write that will
+    store references) each row read is locked ``FOR SHARE`` until the transaction ends, so its
+    visibility and spec cannot change before the write commits.
     """
     wanted: dict[str, set[int]] = {slot: set() for slot in SLOT_TABLES}
     for request in requests:
@@ -205,10 +246,11 @@ def resolve_slots(session: Session, principal: Principal | None, requests: Seque
     found: dict[str, dict[int, StoredItem]] = {}
     for slot, ids in wanted.items():
         table = SLOT_TABLES[slot]
-        found[slot] = {} if not ids else {
-            row.id: row
-            for row in session.exec(select(table).where(table.id.in_(ids), readable_by(table, principal))).all()
-        }
+        statement = select(table).where(table.id.in_(sorted(ids)), readable_by(table, principal))
+        if lock:
+            statement = (statement.order_by(table.id).with_for_update(read=True)
+                         .execution_options(populate_existing=True))
+        found[slot] = {} if not ids else {row.id: row for row in session.exec(statement).all()}
     errors: list[FieldError] = []
     resolved = []
     def one(slot: str, value: Any, where: str) -> Any:
@@ -218,6 +260,8 @@ def resolve_slots(session: Session, principal: Principal | None, requests: Seque
         row = found[slot].get(value.id)
         if row is None:
             errors.append(FieldError(field=where, message=f"no {what} with id {value.id} that you can read"))
+        elif row.retired_at is not None:
+            errors.append(FieldError(field=where, message=f"{what} {value.id} is retired"))
         elif request.public_only and row.visibility != Visibility.public.value:
             errors.append(FieldError(
                 field=where,
@@ -321,7 +365,7 @@ def _is_ref(value: Any) -> bool:
 def _rig_prepare(session: Session, principal: Principal, body: BaseModel) -> dict[str, Any]:
     public = body.visibility == Visibility.public
     given = body_slots(body)
-    [slots] = resolve_slots(session, principal, [SlotRequest(given, public_only=public)])
+    [slots] = resolve_slots(session, principal, [SlotRequest(given, public_only=public)], lock=True)
     full_rig(body, slots)
     spec = body.model_dump(mode="json", exclude={"visibility", "modifier", TRAIN})
     spec[TRAIN] = [item.model_dump(mode="json") for item in given[TRAIN]]
@@ -338,13 +382,29 @@ def _rig_prepare(session: Session, principal: Principal, body: BaseModel) -> dic
 def _rig_present(session: Session, rows: Sequence[tuple[StoredItem, str]]) -> list[BaseModel]:
     specs = stored_rig_specs(session, [row for row, _ in rows])
     return [
-        schemas.RigPublic.model_validate({**row.spec, **meta(row, owner), "resolved": spec})
+        present_item(schemas.RigPublic, {
+            **row.spec, **meta(row, owner), "resolved": spec, "copied_parts": row.copied_parts or [],
+            "uses_retired_equipment": any(p.get("reason") == "retired" for p in row.copied_parts or []),
+        })
         for (row, owner), spec in zip(rows, specs)
     ]
+
+
+def _rig_parts_unchanged(session: Session, rig: StoredItem) -> bool:
+    """No equipment the rig references changed after the rig itself did."""
+    since = aware(rig.updated_at)
+    for slot, table in SLOT_TABLES.items():
+        value = rig.spec.get(slot)
+        if _is_ref(value):
+            part = fetch_by_ids(session, table, [value["id"]]).get(value["id"])
+            if part is None or aware(part.updated_at) > since:
+                return False
+    return True
 
 
 RIGS = Resource(
     path="rigs", label="rig", table=RigRow, create=schemas.RigCreate, update=schemas.RigUpdate,
     public=schemas.RigPublic, list=schemas.RigList, prepare=_rig_prepare, present=_rig_present,
+    parts_unchanged=_rig_parts_unchanged,
     tags=["rigs"],
 )

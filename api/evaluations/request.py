@@ -22,6 +22,7 @@ from api.schemas import Ref, slot
 from calculators.batch import AXES
 from calculators.evaluation_schemas import EvaluationSpec, trains_from
 from calculators.schemas import Camera, Modifier, Mount, Telescope
+from calculators.site import Site, SiteUsed, fill_params
 from calculators.train_elements import MAX_TRAIN_ELEMENTS, TrainElement, train_element
 from calculators.sweep import EvaluationError, TooManyCombinations
 
@@ -61,6 +62,22 @@ class EvaluationRequest(EvaluationSpec):
         default_factory=lambda: [None], min_length=1,
         description='Inline mounts, {"id": N} of stored ones, or null for "no mount"; default: none.',
     )
+    site: slot(Site) | None = Field(
+        default=None, description='An observing site, inline or {"id": N}: its conditions fill the params '
+        "of the same meaning of every calculator used that `params` does not state.",
+    )
+
+
+def with_site(body: EvaluationRequest, site: Site | None, site_id: int | None, calculators) -> tuple[EvaluationRequest, SiteUsed | None]:
+    """The request with the site's conditions in the params of the calculators it uses."""
+    if site is None:
+        return body, None
+    used = {key.split(".", 1)[0] for key in (*body.constraints, *body.objectives)}
+    chosen = {name: calc for name, calc in calculators.items() if name in used}
+    conditions = site.conditions()
+    params, filled = fill_params(chosen, body.params, conditions)
+    return body.model_copy(update={"params": params}), SiteUsed(
+        id=site_id, name=site.name, values=conditions, filled=filled)
 
 
     @field_validator("trains")
@@ -84,7 +101,7 @@ def check_size(body: EvaluationRequest, maximum: int) -> None:
         ), counts)
 
 
-def _entries(body: EvaluationRequest, kind: str):
+def entries_of(body: EvaluationRequest, kind: str):
     """(index, position in the train or None, value) of every candidate of one kind."""
     for i, value in enumerate(getattr(body, LISTS[kind])):
         if kind == "train":
@@ -95,7 +112,7 @@ def _entries(body: EvaluationRequest, kind: str):
 
 
 def needs_database(body: EvaluationRequest) -> bool:
-    return any(isinstance(v, Ref) for kind in AXES for _, _, v in _entries(body, kind))
+    return any(isinstance(v, Ref) for kind in AXES for _, _, v in entries_of(body, kind))
 
 
 def inline_components(body: EvaluationRequest) -> Components:
@@ -111,7 +128,7 @@ def resolve_components(
     refs = [
         (kind, i, j, value)
         for kind in AXES
-        for i, j, value in _entries(body, kind)
+        for i, j, value in entries_of(body, kind)
         if isinstance(value, Ref)
     ]
     with Session(engine) as session:

@@ -28,6 +28,7 @@ class AccountKind(StrEnum):
 class Visibility(StrEnum):
     private = "private"
     public = "public"
+    members = "members"  # a club's members (and officers) only
 
 
 class KeyScope(StrEnum):
@@ -55,6 +56,12 @@ class Account(SQLModel, table=True):
     location: str = Field(default="", sa_column=Column(String(200), nullable=False))
     contact_url: str = Field(default="", sa_column=Column(String(500), nullable=False))
     created_at: datetime = _timestamp()
+    # The site a club's page and comparisons use by default (SET NULL: deleting the site clears it).
+    default_site_id: int | None = Field(
+        default=None,
+        sa_column=Column(ID, ForeignKey("sites.id", ondelete="SET NULL", use_alter=True,
+                                        name="fk_accounts_default_site_id_sites"), index=True),
+    )
 
 
 class ApiKey(SQLModel, table=True):
@@ -84,6 +91,8 @@ class StoredItem(SQLModel):
     version: int = Field(default=1, sa_type=BigInteger, nullable=False)
     created_at: datetime = _timestamp()
     updated_at: datetime = _timestamp()
+    # Set when the owner retires the item (api.equipment.retire): gone from lists and new rigs.
+    retired_at: datetime | None = Field(default=None, sa_type=DateTime(timezone=True), nullable=True)
 
 
 class TelescopeRow(StoredItem, table=True):
@@ -103,6 +112,12 @@ class TrainElementRow(StoredItem, table=True):
 
 class MountRow(StoredItem, table=True):
     __tablename__ = "mounts"
+
+
+class SiteRow(StoredItem, table=True):
+    """An observing site (its conditions in ``spec``, see calculators.site.Site)."""
+
+    __tablename__ = "sites"
 
 
 def _reference(table: str) -> Any:
@@ -129,7 +144,31 @@ class RigRow(StoredItem, table=True):
     train_5_id: int | None = _reference("train_elements")
     train_6_id: int | None = _reference("train_elements")
     train_7_id: int | None = _reference("train_elements")
+    # Parts copied into the rig when their owner retired them or made them private
+    # (api.equipment.copies): [{"slot", "kind", "id", "reason", "taken_at"}].
+    copied_parts: list = Field(default_factory=list, sa_type=JSON, nullable=False)
 
 
 #: The rig columns that mirror its train's stored elements, by position.
 TRAIN_COLUMNS = tuple(f"train_{i}_id" for i in range(8))
+
+
+class SavedEvaluationRow(StoredItem, table=True):
+    """A purchase evaluation kept with its answer (api/evaluations/saved.py).
+
+    ``spec`` holds the request as sent, the components it was computed from (stored ones copied at
+    saving) and which entries were stored ids; ``result`` the answer as it was then.
+    """
+
+    __tablename__ = "saved_evaluations"
+
+    result: dict = Field(sa_type=JSON, nullable=False)
+
+
+# Memberships, loans and history live in their own module; imported here so every table is on
+# SQLModel.metadata whenever the models are.
+from api.storage.club_models import HistoryRow, LoanRow, MembershipRow  # noqa: E402,F401
+
+
+#: The old name of the train elements' table class (one release; the table was "modifiers").
+ModifierRow = TrainElementRow

@@ -40,10 +40,11 @@ from __future__ import annotations
 import numpy as np
 
 from calculators.base import Calculator, NoParams, Output
-from calculators.batch import RigBatch
-from calculators.builtin.light_grasp import clear_area_mm2
+from calculators.batch import RigBatch, per_batch
+from calculators.builtin.light_grasp import batch_clear_area_mm2
 
 
+@per_batch
 def effective_focal_length_mm(batch: RigBatch) -> np.ndarray:
     """Focal length through the train (reducers, barlows, ...): f · factor, in mm (f without one)."""
     return batch["focal_length_mm"] * batch["train_factor"]
@@ -78,15 +79,16 @@ class Speed(Calculator):
     summary = "Effective focal ratio and exposure time relative to the baseline, per pixel and per sky area."
     Params = NoParams
     outputs = (
-        Output("focal_ratio", "", "Effective focal ratio N = f/D through the train."),
-        Output("effective_focal_length_mm", "mm", "Focal length through the train."),
-        Output("throughput", "", "Fraction of light reaching the sensor (telescope × train)."),
+        Output("focal_ratio", "", "Effective focal ratio N = f/D through the train.", label="Focal ratio"),
+        Output("effective_focal_length_mm", "mm", "Focal length through the train.", label="Focal length"),
+        Output("throughput", "", "Fraction of light reaching the sensor (telescope × train).",
+               label="Throughput"),
         Output("time_factor_per_pixel", "",
                "Exposure time for equal signal per pixel from an extended object, relative to the "
-               "baseline (∝ 1/(A·τ·Ω_pixel)).", relative=True),
+               "baseline (∝ 1/(A·τ·Ω_pixel)).", relative=True, label="Time per pixel"),
         Output("time_factor_per_arcsec2", "",
                "Exposure time for equal signal per unit sky area, relative to the baseline "
-               "(∝ 1/(A·τ)).", relative=True),
+               "(∝ 1/(A·τ)).", relative=True, label="Time per sky area"),
     )
     sources = (
         "Camera equation E = π·L·τ/(4·N²) for an extended source (e.g. Smith, Modern Optical "
@@ -98,7 +100,7 @@ class Speed(Calculator):
         focal_mm = effective_focal_length_mm(batch)
         tau = throughput(batch)
         # Light collected per unit sky area; per pixel it is further scaled by Ω_pixel ∝ (p/f)².
-        per_area = clear_area_mm2(batch["aperture_mm"], batch["obstruction_mm"]) * tau
+        per_area = batch_clear_area_mm2(batch) * tau
         per_pixel = per_area * np.square(batch["pixel_size_um"] / focal_mm)
         with np.errstate(divide="ignore", invalid="ignore"):
             return {

@@ -1,7 +1,7 @@
 """imaging train: stored modifiers become train elements, each rig's modifier a one-element train
 
 Revision ID: 0003_imaging_train
-Revises: 0001
+Revises: 0005_club_operations
 Create Date: 2026-12-02 05:00:00
 
 Upgrade: every row of ``modifiers`` is copied, with its id, into ``train_elements`` (its
@@ -21,7 +21,7 @@ import sqlmodel  # noqa: F401
 from alembic import op
 
 revision: str = '0003_imaging_train'
-down_revision: Union[str, Sequence[str], None] = '0001'
+down_revision: Union[str, Sequence[str], None] = '0005_club_operations'
 branch_labels: Union[str, Sequence[str], None] = None
 depends_on: Union[str, Sequence[str], None] = None
 
@@ -41,6 +41,7 @@ def _item_table(name: str) -> None:
         sa.Column('version', sa.BigInteger(), nullable=False),
         sa.Column('created_at', sa.DateTime(timezone=True), nullable=False),
         sa.Column('updated_at', sa.DateTime(timezone=True), nullable=False),
+        sa.Column('retired_at', sa.DateTime(timezone=True), nullable=True),
         sa.ForeignKeyConstraint(['owner_id'], ['accounts.id'], ondelete='CASCADE'),
         sa.PrimaryKeyConstraint('id'),
     )
@@ -56,6 +57,7 @@ def _items(name: str) -> sa.Table:
         sa.column('name', sa.String), sa.column('spec', sa.JSON), sa.column('version', sa.BigInteger),
         sa.column('created_at', sa.DateTime(timezone=True)),
         sa.column('updated_at', sa.DateTime(timezone=True)),
+        sa.column('retired_at', sa.DateTime(timezone=True)),
     )
 
 
@@ -128,6 +130,19 @@ def upgrade() -> None:
         batch_op.drop_index(batch_op.f('ix_rigs_modifier_id'))
         batch_op.drop_column('modifier_id')
 
+    # Saved evaluations keep copies of their components: the modifiers become one-element trains.
+    saved = sa.table('saved_evaluations', sa.column('id', ID), sa.column('spec', sa.JSON))
+    for row in bind.execute(sa.select(saved.c.id, saved.c.spec)).mappings().all():
+        spec = dict(row['spec'])
+        components = dict(spec.get('components') or {})
+        if 'modifiers' in components:
+            components['trains'] = [[] if m is None else [modifier_to_element(m)]
+                                    for m in components.pop('modifiers')]
+        spec['components'] = components
+        spec['stored'] = [{**e, 'kind': 'train', 'position': 0} if e.get('kind') == 'modifier' else e
+                          for e in spec.get('stored', [])]
+        bind.execute(saved.update().where(saved.c.id == row['id']).values(spec=spec))
+
     with op.batch_alter_table('modifiers', schema=None) as batch_op:
         batch_op.drop_index(batch_op.f('ix_modifiers_visibility'))
         batch_op.drop_index(batch_op.f('ix_modifiers_owner_id'))
@@ -163,6 +178,20 @@ def downgrade() -> None:
         spec['modifier'] = modifier
         bind.execute(rigs.update().where(rigs.c.id == row['id'])
                      .values(spec=spec, modifier_id=modifier_id))
+
+    saved = sa.table('saved_evaluations', sa.column('id', ID), sa.column('spec', sa.JSON))
+    for row in bind.execute(sa.select(saved.c.id, saved.c.spec)).mappings().all():
+        spec = dict(row['spec'])
+        components = dict(spec.get('components') or {})
+        if 'trains' in components:
+            components['modifiers'] = [
+                next((element_to_modifier(e) for e in t if e.get('kind') in POWERED), None)
+                for t in components.pop('trains')]
+        spec['components'] = components
+        spec['stored'] = [{k: v for k, v in e.items() if k != 'position'} | {'kind': 'modifier'}
+                          if e.get('kind') == 'train' else e for e in spec.get('stored', [])
+                          if e.get('kind') != 'train' or e.get('position') == 0]
+        bind.execute(saved.update().where(saved.c.id == row['id']).values(spec=spec))
 
     with op.batch_alter_table('rigs', schema=None) as batch_op:
         for column in TRAIN_COLUMNS:

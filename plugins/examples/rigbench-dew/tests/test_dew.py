@@ -150,7 +150,7 @@ def test_computes_with_default_params_for_rigs_and_sweeps_through_the_registry()
     flat = run(calculator, RigBatch.from_rigs(rigs), params)
     assert flat.error is None
     assert {name: values.shape for name, values in flat.values.items()} == dict.fromkeys(
-        ("dew_point_c", "optics_temperature_c", "dew_margin_c", "dew_risk", "heating_power_w"), (3,)
+        ("dew_point_c", "optics_temperature_c", "dew_margin_k", "dew_risk", "heating_power_w"), (3,)
     )
     sweep = run(calculator, RigBatch.from_components([r.telescope for r in rigs], [rigs[0].camera]), params)
     assert sweep.error is None
