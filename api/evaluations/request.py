@@ -67,6 +67,11 @@ class EvaluationRequest(EvaluationSpec):
         "of the same meaning of every calculator used that `params` does not state.",
     )
 
+    @field_validator("trains")
+    @classmethod
+    def _trains(cls, value: list, info: ValidationInfo) -> list:
+        return trains_from(value, info)
+
 
 def with_site(body: EvaluationRequest, site: Site | None, site_id: int | None, calculators) -> tuple[EvaluationRequest, SiteUsed | None]:
     """The request with the site's conditions in the params of the calculators it uses."""
@@ -79,11 +84,6 @@ def with_site(body: EvaluationRequest, site: Site | None, site_id: int | None, c
     return body.model_copy(update={"params": params}), SiteUsed(
         id=site_id, name=site.name, values=conditions, filled=filled)
 
-
-    @field_validator("trains")
-    @classmethod
-    def _trains(cls, value: list, info: ValidationInfo) -> list:
-        return trains_from(value, info)
 
 
 def sizes(body: EvaluationRequest) -> tuple[int, ...]:

@@ -51,7 +51,7 @@ def test_sweep_batch_lays_each_kind_along_its_own_axis():
     batch = RigBatch.from_components(
         [SCOPE_200, SCOPE_80, SCOPE_80], [CAMERA, CAMERA], [None, REDUCER], [MOUNT], baseline=(1, 0, 1, 0)
     )
-    assert AXES == ("telescope", "camera", "modifier", "mount")
+    assert AXES == ("telescope", "camera", "train", "mount")
     assert batch.shape == (3, 2, 2, 1) and batch.size == 12
     assert batch["aperture_mm"].shape == (3, 1, 1, 1)
     assert batch["design"].shape == (3, 1, 1, 1)

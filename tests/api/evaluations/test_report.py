@@ -28,12 +28,12 @@ REGISTRY = load_registry()
 
 def answer(body, registry=REGISTRY):
     spec = InlineEvaluationRequest.model_validate(body)
-    components = (spec.telescopes, spec.cameras, spec.modifiers, spec.mounts)
+    components = (spec.telescopes, spec.cameras, spec.trains, spec.mounts)
     return spec, components, evaluate_spec(*components, spec, calculators=registry.calculators)
 
 
 def key(row) -> str:
-    return ",".join(str(getattr(row.indices, k)) for k in ("telescope", "camera", "modifier", "mount"))
+    return ",".join(str(getattr(row.indices, k)) for k in ("telescope", "camera", "train", "mount"))
 
 
 def front_drawn(svg: str) -> list[str]:
@@ -114,12 +114,12 @@ def test_each_sheet_lists_parts_prices_bounds_and_cautions():
     assert [s["indices"] for s in page["sheets"]] == [key(r) for r in result.top]
     for sheet, row in zip(page["sheets"], result.top):
         names = [p["name"] for p in sheet["parts"]]
-        for kind, lists in (("telescope", TELESCOPES), ("camera", CAMERAS), ("modifier", MODIFIERS), ("mount", MOUNTS)):
+        for kind, lists in (("telescope", TELESCOPES), ("camera", CAMERAS), ("train", MODIFIERS), ("mount", MOUNTS)):
             part = lists[getattr(row.indices, kind)]
             if part is not None:
                 assert part["name"] in names
         total = sum(lists[getattr(row.indices, kind)]["price"]["amount"]
-                    for kind, lists in (("telescope", TELESCOPES), ("camera", CAMERAS), ("modifier", MODIFIERS),
+                    for kind, lists in (("telescope", TELESCOPES), ("camera", CAMERAS), ("train", MODIFIERS),
                                         ("mount", MOUNTS)) if lists[getattr(row.indices, kind)] is not None)
         # Nothing is owned in this request: the purchase is the whole combination, the cost calculator's total.
         assert sheet["purchase"] == sheet["total"] == f"{total:,.2f} EUR"

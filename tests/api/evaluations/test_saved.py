@@ -150,7 +150,7 @@ def _with_stored_telescope(client, alice, visibility="private"):
 
 def test_a_deleted_telescope_leaves_the_saved_answer_shown_and_marked(client, alice):
     scope_id, item = _with_stored_telescope(client, alice)
-    assert item["stored_equipment"] == [{"kind": "telescope", "index": 0, "id": scope_id,
+    assert item["stored_equipment"] == [{"kind": "telescope", "index": 0, "position": None, "id": scope_id,
                                          "name": TELESCOPES[0]["name"], "status": "unchanged",
                                          "changed_fields": []}]
     assert client.delete(f"/v1/telescopes/{scope_id}", headers=alice.headers).status_code == 204
@@ -247,7 +247,7 @@ def test_a_rerun_after_a_price_change_says_what_changed(client, alice):
 def test_the_components_kept_are_copies_of_what_was_computed(client, alice):
     item = save(client, alice)
     assert item["request"]["cameras"] == CAMERAS and item["request"]["mounts"] == MOUNTS
-    assert item["request"]["modifiers"] == MODIFIERS
+    assert item["request"]["trains"] == [[] if m is None else [m] for m in MODIFIERS]
 
 
 def test_a_site_fills_the_params_as_in_the_unsaved_route_and_the_page_names_it(client, alice):
