@@ -21,7 +21,6 @@ from __future__ import annotations
 
 import json
 
-from pydantic import ValidationError
 from starlette.requests import Request
 from starlette.types import ASGIApp, Message, Receive, Scope, Send
 
@@ -94,7 +93,7 @@ async def _answer(request: Request, body: bytes):
 
     try:
         parsed = ComparisonRequest.model_validate(json.loads(body))
-    except (ValueError, ValidationError):  # JSONDecodeError and UnicodeDecodeError are ValueErrors
+    except Exception:  # not JSON, invalid, or worse: the ordinary way answers it as it would anyway
         return None
     try:
         return await create_comparison(body=parsed, request=request, caller=None)

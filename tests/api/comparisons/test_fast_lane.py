@@ -100,3 +100,15 @@ def test_csv_a_key_and_other_media_types_go_the_ordinary_way(client, alice, coun
     assert len(count_dependency_solving) == 3
     anonymous = client.post("/v1/comparisons", content=content, headers={"Content-Type": "application/json"})
     assert keyed.content == anonymous.content  # inline rigs: the key changes nothing in the answer
+
+
+@pytest.mark.parametrize("slot, field", [("telescope", "design"), ("mount", "type")])
+def test_a_list_or_an_object_where_a_name_belongs_is_a_422_both_ways(client, slot, field):
+    # Found by the schemathesis run (tests/hardening/test_fuzzing.py): the check for a renamed old
+    # value looked the value up in a dict, and an unhashable one raised instead of being refused.
+    for wrong in ({}, ["refractor"]):
+        rig = {**INLINE_RIG, slot: {**INLINE_RIG.get(slot, {"type": "german-equatorial", "capacity_kg": 20}),
+                                    field: wrong}}
+        lane, ordinary = both_ways(client, json.dumps({"rigs": [rig]}).encode())
+        assert lane.status_code == 422, lane.text
+        assert_alike(lane, ordinary)
