@@ -101,7 +101,6 @@ def _old_design(value):
 
 def upgrade_old_telescope(data):
     """A telescope body in the previous release's words, in this release's (see ``OLD_DESIGNS``)."""
-    # Only a string can be an old name (a list or an object in its place is the schema's to refuse).
     if isinstance(data, dict) and isinstance(data.get("design"), str) and data["design"] in OLD_DESIGNS:
         data = {**data, "design": OLD_DESIGNS[data["design"]].value}
         if data.get("throughput") is None:
