@@ -112,3 +112,19 @@ def test_a_list_or_an_object_where_a_name_belongs_is_a_422_both_ways(client, slo
         lane, ordinary = both_ways(client, json.dumps({"rigs": [rig]}).encode())
         assert lane.status_code == 422, lane.text
         assert_alike(lane, ordinary)
+
+
+def test_the_lane_stands_aside_when_the_route_takes_more_than_it_can_give(client, monkeypatch,
+                                                                          count_dependency_solving):
+    import api.comparisons.routes as routes
+
+    original = routes.create_comparison
+
+    async def with_a_new_dependency(body, request, caller, session):
+        raise AssertionError("the lane must not call a route whose parameters it does not know")
+
+    monkeypatch.setattr(routes, "create_comparison", with_a_new_dependency)
+    content = json.dumps({"rigs": [INLINE_RIG]}).encode()
+    answer = client.post("/v1/comparisons", content=content, headers={"Content-Type": "application/json"})
+    assert answer.status_code == 200 and count_dependency_solving  # the ordinary way (original route) answered
+    assert original is not with_a_new_dependency
