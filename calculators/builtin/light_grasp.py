@@ -19,6 +19,7 @@ from pydantic import Field
 
 from calculators.base import Calculator, Output
 from calculators.batch import RigBatch
+from calculators.builtin.cautions import SUN_CAUTION
 from calculators.schemas import Strict
 
 
@@ -54,6 +55,7 @@ class LightGrasp(Calculator):
         "Area of an annulus π/4·(D² − d²) (plane geometry).",
         "Limiting magnitude 2.7 + 5·log10(D[mm]): common practice (Sinnott 1973 as commonly quoted).",
     )
+    cautions = (SUN_CAUTION,)
 
     def compute(self, batch: RigBatch, params: LightGraspParams) -> dict[str, np.ndarray]:
         area = clear_area_mm2(batch["aperture_mm"], batch["obstruction_mm"])
