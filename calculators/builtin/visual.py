@@ -127,6 +127,8 @@ class Visual(Calculator):
     )
 
     def compute(self, batch: RigBatch, params: VisualParams) -> dict[str, np.ndarray]:
+        if EYEPIECE_FOCAL not in batch.columns or np.isnan(batch[EYEPIECE_FOCAL]).all():
+            return self._no_eyepiece(batch)  # an imaging-only batch: every figure is null
         aperture = batch["aperture_mm"]
         focal = effective_focal_length_mm(batch)
         eyepiece = _column(batch, EYEPIECE_FOCAL)
@@ -169,7 +171,15 @@ class Visual(Calculator):
             "exit_pupil_verdict": verdict,
         }
 
+    def _no_eyepiece(self, batch: RigBatch) -> dict[str, np.ndarray]:
+        one = (1,) * len(batch.shape)
+        nan, empty = np.full(one, np.nan), np.full(one, "")
+        return {o.name: (empty if o.kind == "text" else nan) for o in self.outputs}
+
     def null_reasons(self, batch: RigBatch, params: VisualParams) -> dict[str, np.ndarray]:
+        if EYEPIECE_FOCAL not in batch.columns or np.isnan(batch[EYEPIECE_FOCAL]).all():
+            none = np.asarray(NO_EYEPIECE)  # one reason for every rig, shared by every output
+            return {o.name: none for o in self.outputs if o.kind == "number"}
         none = np.where(np.isnan(_column(batch, EYEPIECE_FOCAL)), NO_EYEPIECE, "")
         reasons = {o.name: none for o in self.outputs if o.kind == "number"}
         field_missing = np.isnan(_column(batch, EYEPIECE_FIELD)) & np.isnan(_column(batch, EYEPIECE_STOP))
