@@ -17,13 +17,15 @@ from fastapi.openapi.utils import get_openapi
 from fastapi_offline import FastAPIOffline
 from starlette.concurrency import run_in_threadpool
 
+from api import tuning
 from api.accounts import routes as accounts
 from api.clubs import page as club_page
+from api.clubs import loan_routes, member_routes
 from api.clubs import routes as clubs
 from api.comparisons import routes as comparisons
 from api.discovery import calculators
 from api.discovery import plugins as plugins_routes
-from api.equipment import cameras, modifiers, mounts, rigs, telescopes
+from api.equipment import cameras, modifiers, mounts, retire, rigs, telescopes
 from api.evaluations import pages as evaluation_pages
 from api.evaluations import routes as evaluations
 from api.evaluations import saved_routes as saved_evaluations
@@ -55,6 +57,8 @@ near the Sun without a proper full-aperture solar filter.
 ROUTERS = (
     health, comparisons, calculators, plugins_routes, accounts, telescopes, cameras, modifiers,
     mounts, rigs, sites, default_site, evaluations, saved_evaluations, evaluation_pages, clubs, club_page,
+    # club operations (issue 13)
+    retire, member_routes, loan_routes,
 )
 
 
@@ -63,10 +67,12 @@ def create_app(settings: Settings | None = None) -> FastAPI:
 
     @asynccontextmanager
     async def lifespan(app: FastAPI) -> AsyncIterator[None]:
+        tuning.keep_freed_memory()  # numpy temporaries of big sweeps reuse freed blocks (api.tuning)
         if settings.is_sqlite:
-            # One file, one process tree: bring the schema up to date on start. On PostgreSQL the
-            # operator runs `rigbench db upgrade` once, so several servers never race to migrate.
-            db.upgrade(app.state.engine)
+            # One file, one process tree: bring the schema up to date on start (`rigbench serve`
+            # has already done it before starting its workers, so they only check). On PostgreSQL
+            # the operator runs `rigbench db upgrade` once, so several servers never race to migrate.
+            db.upgrade_if_behind(app.state.engine)
         elif warning := await run_in_threadpool(db.schema_warning, app.state.engine):
             log.warning(warning)
         yield

@@ -254,9 +254,19 @@ class SimpleTable:
     rows: list[list[str]]
 
 
+def availability_text(item: Any) -> str:
+    """"Available", "On loan until 2026-12-09" (with the borrower for those who may see it), "Retired"."""
+    if item.availability.value == "on loan":
+        who = f" ({item.borrower})" if getattr(item, "borrower", None) else ""
+        late = ", overdue" if getattr(item, "overdue", None) else ""
+        return f"On loan until {item.due.isoformat()}{who}{late}"
+    return item.availability.value.capitalize()
+
+
 def equipment_tables(equipment: ClubEquipment) -> list[SimpleTable]:
     return [
-        SimpleTable(key, caption, headers, [cells(item) for item in getattr(equipment, key)])
+        SimpleTable(key, caption, [*headers, "Availability"],
+                    [[*cells(item), availability_text(item)] for item in getattr(equipment, key)])
         for key, caption, headers, cells in EQUIPMENT_TABLES
         if getattr(equipment, key)
     ]

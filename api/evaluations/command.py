@@ -128,6 +128,7 @@ def _local(body: dict[str, Any], settings: Settings, chunk_rows: int | None, *,
 
     from api.evaluations.request import MAX_FRONT_ROWS
     from api.http.problems import field_path
+    from api.tuning import keep_freed_memory
     from calculators.evaluation_schemas import InlineEvaluationRequest
     from calculators.sweep import DEFAULT_CHUNK_ROWS, EvaluationError, evaluate_spec
     from plugins.registry import load_registry
@@ -137,6 +138,7 @@ def _local(body: dict[str, Any], settings: Settings, chunk_rows: int | None, *,
     if stored:
         raise Refused(f"{', '.join(stored[:5])}: stored equipment ({{\"id\": N}}) needs a server; "
                       "give --url (and --key for private items), or give the component inline")
+    keep_freed_memory()  # as a server process does: large numpy temporaries reuse freed blocks
     try:
         spec = InlineEvaluationRequest.model_validate(body)
     except ValidationError as exc:

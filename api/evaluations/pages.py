@@ -90,12 +90,30 @@ def _page(request: Request, caller, item_id: int) -> str:
     base = f"/v1/evaluations/saved/{row.id}"
     page = saved.report_path(row.id)
     return render(
-        saved.saved_request(row), saved.saved_components(row), saved.EvaluationResult.model_validate(row.result),
+        saved.saved_spec(row), saved.saved_components(row), saved.EvaluationResult.model_validate(row.result),
         request.app.state.registry, title=row.name or f"Evaluation {row.id}", entries=entries,
         owner=owner, saved_at=aware(row.created_at).strftime("%Y-%m-%d %H:%M UTC"), visibility=row.visibility,
-        rerun=f"{base}/rerun",
+        rerun=f"{base}/rerun", now_page=f"{page}/now",
         links={"csv": f"{base}?format=csv", "json": base, "tradeoff": f"{page}/trade-off.svg",
                "objectives": f"{page}/objectives.svg"},
+    )
+
+
+def _now_page(request: Request, caller, item_id: int) -> str:
+    """The saved evaluation computed again with today's equipment, with what changed."""
+    state = request.app.state
+    with Session(state.engine) as session:
+        row, owner = saved.fetch(session, item_id, caller)
+        stored, current = saved.stored_equipment(session, row, caller)
+    answer, components, spec = saved.rerun(state, caller, row, stored, current)
+    entries = _entries(stored)
+    base, page = f"/v1/evaluations/saved/{row.id}", saved.report_path(row.id)
+    return render(
+        spec, components, answer.result, state.registry, title=f"{row.name or f'Evaluation {row.id}'}: run again now",
+        entries=entries, owner=owner, saved_at=aware(row.created_at).strftime("%Y-%m-%d %H:%M UTC"),
+        visibility=row.visibility, saved_page=page,
+        changes=report.changes_view(answer.changes, components, state.registry.calculators, answer.result.units),
+        rerun=f"{base}/rerun",
     )
 
 
@@ -114,9 +132,18 @@ async def evaluation_report(item_id: str, request: Request, caller: Caller) -> R
     return HTMLResponse(html, headers={"Content-Security-Policy": club_page.PAGE_POLICY})
 
 
+@router.get("/evaluations/{item_id}/now", response_class=HTMLResponse, include_in_schema=False)
+async def evaluation_now(item_id: str, request: Request, caller: Caller) -> Response:
+    try:
+        html = await run_in_threadpool(_now_page, request, caller, _item_id(item_id))
+    except ApiProblem as problem:
+        return _problem_page(request, problem)
+    return HTMLResponse(html, headers={"Content-Security-Policy": club_page.PAGE_POLICY})
+
+
 def _chart(request: Request, caller, item_id: int, which: str) -> str | None:
     row, _owner, _stored = _load(request, caller, item_id)
-    context = report.context(saved.saved_request(row), saved.saved_components(row),
+    context = report.context(saved.saved_spec(row), saved.saved_components(row),
                              saved.EvaluationResult.model_validate(row.result), request.app.state.registry)
     return context[which]
 
@@ -143,9 +170,10 @@ async def objectives_picture(item_id: str, request: Request, caller: Caller) -> 
 
 def _draw(request: Request, caller, body: EvaluationRequest) -> str:
     state = request.app.state
-    components, _ids, result = saved.compute(state.engine, caller, body, registry=state.registry,
-                                             maximum=state.settings.max_combinations, max_front_rows=MAX_FRONT_ROWS)
-    return render(body, components, result, state.registry, title="Purchase evaluation", standalone=True)
+    components, _ids, spec, result = saved.compute(state.engine, caller, body, registry=state.registry,
+                                                   maximum=state.settings.max_combinations,
+                                                   max_front_rows=MAX_FRONT_ROWS)
+    return render(spec, components, result, state.registry, title="Purchase evaluation", standalone=True)
 
 
 @router.post(

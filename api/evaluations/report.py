@@ -69,6 +69,17 @@ def label_of(key: str, calculators: Mapping) -> str:
     return words[:1].upper() + words[1:]
 
 
+def unit_of(key: str, units: Mapping[str, str], calculators: Mapping) -> str:
+    """The unit shown for an output: its own, or "× baseline" for a ratio to the baseline."""
+    if units.get(key):
+        return units[key]
+    name, _, output = key.partition(".")
+    for declared in getattr(calculators.get(name), "outputs", ()):
+        if declared.name == output and declared.relative:
+            return "× baseline"
+    return ""
+
+
 def bounds_text(bounds, unit: str) -> str:
     unit = f" {unit}" if unit else ""
     low, high = bounds.min, bounds.max
@@ -186,14 +197,16 @@ def _sheet(rank, row, components, bounds_by_key, objectives, result, calculators
     i = rank - 1
     units = result.units
     buy, total = _purchase(components, row)
+    # An output both constrained and optimised is one row: its direction and its bound.
     constraints = [{
         "label": label_of(key, calculators), "key": key, "unit": units.get(key, ""),
         "value": charts.number_text(row.values.get(key)),
         "bounds": bounds_text(bounds, units.get(key, "")), "met": True,
-    } for key, bounds in bounds_by_key.items()]
+    } for key, bounds in bounds_by_key.items() if key not in objectives]
     objectives = [{
         "label": label_of(key, calculators), "key": key, "unit": units.get(key, ""),
         "value": charts.number_text(row.values.get(key)), "direction": direction,
+        "bounds": bounds_text(bounds_by_key[key], units.get(key, "")) if key in bounds_by_key else None,
     } for key, direction in objectives.items()]
     sheet = {"rank": rank, "indices": ",".join(map(str, _indices(row))), "score": row.score,
              "parts": _parts(components, row, entries), "purchase": buy, "total": total,
@@ -250,7 +263,7 @@ def context(spec: EvaluationSpec, components, result: EvaluationResult, registry
     constraints = {canonical(k, calculators): b for k, b in spec.constraints.items()}
     keys = list(objectives)
     units = result.units
-    axes = [charts.Axis(k, label_of(k, calculators), units.get(k, ""), objectives[k]) for k in keys]
+    axes = [charts.Axis(k, label_of(k, calculators), unit_of(k, units, calculators), objectives[k]) for k in keys]
     drawn = sample(components, spec, calculators)
     feasible = int(drawn.feasible.sum())
     cloud = []
@@ -304,6 +317,7 @@ def context(spec: EvaluationSpec, components, result: EvaluationResult, registry
         "changed": [e for e in entries if e.status == "changed"],
         "axes": axes, "no_front": not result.front,
         "general_cautions": CAUTIONS,
+        "site": getattr(result, "site", None),
     }
 
 
@@ -321,3 +335,31 @@ def components_summary(components) -> list[dict]:
 
 def is_finite(value) -> bool:
     return isinstance(value, (int, float)) and math.isfinite(value)
+
+
+def combination_name(components, indices) -> str:
+    """A combination in words: its parts' names joined with +."""
+    names = []
+    for axis, kind in enumerate(AXES):
+        index = getattr(indices, kind)
+        part = components[axis][index]
+        if part is not None:
+            names.append(_name(kind, index, part))
+    return " + ".join(names)
+
+
+def changes_view(changes, components, calculators, units) -> dict[str, Any]:
+    """What a re-run changed, in words for the page (combinations named by their parts)."""
+    def named(indices) -> str:
+        return "—" if indices is None else combination_name(components, indices)
+
+    return {
+        "evaluated": changes.evaluated, "feasible": changes.feasible,
+        "best": (named(changes.best_saved), named(changes.best_now)),
+        "same_best": changes.best_saved == changes.best_now,
+        "added": [named(i) for i in changes.front_added], "removed": [named(i) for i in changes.front_removed],
+        "values": [{"combination": named(v.indices), "label": label_of(v.key, calculators),
+                    "unit": units.get(v.key, ""), "saved": charts.number_text(v.saved), "now": charts.number_text(v.now)}
+                   for v in changes.values[:50]],
+        "more_values": max(len(changes.values) - 50, 0),
+    }

@@ -32,9 +32,11 @@ from api.evaluations.request import (
     needs_database,
     resolve_components,
     sizes,
+    with_site,
 )
 from api.http.problems import from_validation_error
 from api.schemas import Ref, Visible, refuse_nul
+from api.sites.conditions import read_site
 from api.storage import store
 from api.storage.models import CameraRow, ModifierRow, MountRow, SavedEvaluationRow, TelescopeRow, Visibility
 from calculators.batch import AXES
@@ -130,23 +132,32 @@ def report_path(item_id: int) -> str:
 # --- saving ---------------------------------------------------------------------------------------
 
 def compute(engine: Engine, principal: Principal | None, body: EvaluationRequest, *, registry,
-            maximum: int, max_front_rows: int):
-    """The components (stored ids resolved), their ids, and the answer; problems name the field."""
+            maximum: int, max_front_rows: int, components=None, ids=None):
+    """The components (stored ids resolved, unless given), their ids, the request with the site's
+    conditions in its params, and the answer, as ``POST /v1/evaluations`` computes it; problems
+    name the field."""
     check_size(body, maximum)
-    if needs_database(body):
+    if components is None and needs_database(body):
         components, ids = resolve_components(engine, principal, body)
-    else:
+    elif components is None:
         components, ids = inline_components(body), None
+    site, site_id = body.site, None
+    if isinstance(site, Ref):
+        site, site_id = read_site(engine, principal, site)
+    spec, used = with_site(body, site, site_id, registry.calculators)
     try:
-        result = evaluate_spec(*components, body, calculators=registry.calculators, ids=ids,
+        result = evaluate_spec(*components, spec, calculators=registry.calculators, ids=ids,
                                max_combinations=maximum, max_front_rows=max_front_rows)
     except EvaluationError as exc:
         raise as_problem(exc, sizes(body)) from None
-    return components, ids, result
+    if used is not None:
+        result.site = used
+    return components, ids, spec, result
 
 
-def snapshot(body: EvaluationRequest, components) -> dict[str, Any]:
-    """What the row's ``spec`` keeps: the request, a copy of every component, the stored entries."""
+def snapshot(body: EvaluationRequest, components, params: dict[str, Any]) -> dict[str, Any]:
+    """What the row's ``spec`` keeps: the request, a copy of every component, the stored entries,
+    and the params the answer was computed with (a site's conditions filled in)."""
     request = body.model_dump(mode="json", exclude={"name", "visibility"}, exclude_unset=True)
     copies = {
         LISTS[kind]: [None if c is None else c.model_dump(mode="json", exclude_none=True) for c in items]
@@ -156,14 +167,14 @@ def snapshot(body: EvaluationRequest, components) -> dict[str, Any]:
         {"kind": kind, "index": i, "id": value.id}
         for kind in AXES for i, value in enumerate(getattr(body, LISTS[kind])) if isinstance(value, Ref)
     ]
-    return {"request": request, "components": copies, "stored": stored}
+    return {"request": request, "components": copies, "stored": stored, "params": params}
 
 
-def save(session: Session, principal: Principal, body: SavedEvaluationCreate, components,
+def save(session: Session, principal: Principal, body: SavedEvaluationCreate, components, params,
          result: EvaluationResult) -> SavedEvaluationRow:
     return store.insert(session, SavedEvaluationRow, principal, {
         "name": body.name, "visibility": body.visibility.value,
-        "spec": snapshot(body, components), "result": result.model_dump(mode="json"),
+        "spec": snapshot(body, components, params), "result": result.model_dump(mode="json"),
     })
 
 
@@ -240,6 +251,13 @@ def saved_request(row: SavedEvaluationRow) -> EvaluationRequest:
         raise from_validation_error(exc, prefix=("request",)) from None
 
 
+def saved_spec(row: SavedEvaluationRow) -> EvaluationRequest:
+    """The saved request with the params its answer was computed with (what the report draws from)."""
+    request = saved_request(row)
+    params = row.spec.get("params")
+    return request if params is None else request.model_copy(update={"params": params})
+
+
 # --- re-running -----------------------------------------------------------------------------------
 
 def rerun_components(row: SavedEvaluationRow, current: dict[tuple[str, int], Any]):
@@ -281,3 +299,20 @@ def changes(saved: EvaluationResult, now: EvaluationResult) -> AnswerChanges:
         best_now=now.top[0].indices if now.top else None,
         values=moved,
     )
+
+
+def rerun(state, principal: Principal | None, row: SavedEvaluationRow, entries: list[StoredEntry],
+          current: dict[tuple[str, int], Any]):
+    """The saved evaluation computed again now (the site read again too, its conditions may have
+    changed like the equipment); also the components and the spec it was computed from."""
+    from api.evaluations.request import MAX_FRONT_ROWS
+
+    components, ids = rerun_components(row, current)
+    components, _ids, spec, now = compute(
+        state.engine, principal, saved_request(row), registry=state.registry,
+        maximum=state.settings.max_combinations, max_front_rows=MAX_FRONT_ROWS, components=components, ids=ids,
+    )
+    before = EvaluationResult.model_validate(row.result)
+    answer = Rerun(id=row.id, report_url=report_path(row.id), stored_equipment=entries,
+                   changes=changes(before, now), result=now)
+    return answer, components, spec

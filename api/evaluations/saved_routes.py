@@ -14,23 +14,21 @@ from api.clubs.routes import Format, as_csv, wants_csv
 from api.deps import Caller, ItemId, Writer
 from api.evaluations import saved
 from api.evaluations.csv_table import evaluation_csv
-from api.evaluations.request import MAX_FRONT_ROWS, as_problem, sizes
+from api.evaluations.request import MAX_FRONT_ROWS
 from api.evaluations.routes import CSV_RESPONSE
 from api.http import problems
-from calculators.evaluation_schemas import EvaluationResult
-from calculators.sweep import EvaluationError, evaluate_spec
 
 router = APIRouter(prefix="/v1/evaluations/saved", tags=["evaluations"])
 
 
 def _save(request: Request, caller, body: saved.SavedEvaluationCreate) -> saved.SavedEvaluationPublic:
     state = request.app.state
-    components, _ids, result = saved.compute(
+    components, _ids, spec, result = saved.compute(
         state.engine, caller, body, registry=state.registry,
         maximum=state.settings.max_combinations, max_front_rows=MAX_FRONT_ROWS,
     )
     with Session(state.engine) as session:
-        row = saved.save(session, caller, body, components, result)
+        row = saved.save(session, caller, body, components, spec.params, result)
         entries, _current = saved.stored_equipment(session, row, caller)
         return saved.public(row, caller.account.name, entries)
 
@@ -74,18 +72,8 @@ async def get_saved_evaluation(item_id: ItemId, request: Request, caller: Caller
 
 
 def _rerun(request: Request, caller, item_id: int) -> saved.Rerun:
-    state = request.app.state
     row, _owner, entries, current = _read(request, caller, item_id)
-    spec = saved.saved_request(row)
-    components, ids = saved.rerun_components(row, current)
-    try:
-        now = evaluate_spec(*components, spec, calculators=state.registry.calculators, ids=ids,
-                            max_combinations=state.settings.max_combinations, max_front_rows=MAX_FRONT_ROWS)
-    except EvaluationError as exc:
-        raise as_problem(exc, sizes(spec)) from None
-    before = EvaluationResult.model_validate(row.result)
-    return saved.Rerun(id=row.id, report_url=saved.report_path(row.id), stored_equipment=entries,
-                       changes=saved.changes(before, now), result=now)
+    return saved.rerun(request.app.state, caller, row, entries, current)[0]
 
 
 @router.post(

@@ -73,6 +73,18 @@ def upgrade(engine: Engine, revision: str = "head") -> None:
     command.upgrade(alembic_config(engine), revision)
 
 
+def upgrade_if_behind(engine: Engine) -> bool:
+    """Apply migrations only when the database is not at the code's head revision; True if it ran.
+
+    Checking first keeps the start of every worker of ``rigbench serve --workers N`` to a read: the
+    command migrates once before it starts them, so none of them races another to migrate.
+    """
+    if current_revision(engine) == head_revision():
+        return False
+    upgrade(engine)
+    return True
+
+
 def current_revision(engine: Engine) -> str | None:
     from alembic.runtime.migration import MigrationContext
 

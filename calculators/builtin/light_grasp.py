@@ -18,7 +18,7 @@ import numpy as np
 from pydantic import Field
 
 from calculators.base import Calculator, Output
-from calculators.batch import RigBatch
+from calculators.batch import RigBatch, per_batch
 from calculators.builtin.cautions import SUN_CAUTION
 from calculators.schemas import Strict
 
@@ -33,6 +33,12 @@ class LightGraspParams(Strict):
 def clear_area_mm2(aperture_mm, obstruction_mm):
     """Collecting area net of the central obstruction, π/4·(D² − d²), in mm²."""
     return np.pi / 4 * (np.square(aperture_mm) - np.square(obstruction_mm))
+
+
+@per_batch
+def batch_clear_area_mm2(batch: RigBatch) -> np.ndarray:
+    """:func:`clear_area_mm2` of the batch's telescopes, computed once per batch."""
+    return clear_area_mm2(batch["aperture_mm"], batch["obstruction_mm"])
 
 
 class LightGrasp(Calculator):
@@ -58,7 +64,7 @@ class LightGrasp(Calculator):
     cautions = (SUN_CAUTION,)
 
     def compute(self, batch: RigBatch, params: LightGraspParams) -> dict[str, np.ndarray]:
-        area = clear_area_mm2(batch["aperture_mm"], batch["obstruction_mm"])
+        area = batch_clear_area_mm2(batch)
         return {
             "clear_area_mm2": area,
             "area_ratio": batch.relative(area),

@@ -28,7 +28,7 @@ import numpy as np
 from pydantic import Field, model_validator
 
 from calculators.base import Calculator, Output
-from calculators.batch import RigBatch
+from calculators.batch import RigBatch, per_batch
 from calculators.builtin.speed import effective_focal_length_mm
 from calculators.schemas import Strict
 
@@ -50,6 +50,7 @@ def pixel_scale_arcsec(pixel_size_um, focal_length_mm) -> np.ndarray:
     return (ARCSEC_PER_RAD * 1e-3) * pixel_size_um / focal_length_mm
 
 
+@per_batch
 def sensor_size_mm(batch: RigBatch) -> tuple[np.ndarray, np.ndarray]:
     """Sensor width and height in mm: pixel count × pixel pitch."""
     pitch_mm = batch["pixel_size_um"] * 1e-3

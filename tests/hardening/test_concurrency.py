@@ -4,8 +4,9 @@ Each client reads the rig (ETag), then PATCHes its name with ``If-Match``. A 2xx
 applied on top of exactly the version read; a 412 means someone else got there first. If no update is
 lost, the versions handed out by the 2xx answers are exactly 2, 3, …, N+1 (each once), the rig ends at
 version N+1, and its name is the one written by the answer that got version N+1. Run on SQLite (WAL,
-busy timeout), on PostgreSQL, and on two server processes sharing one PostgreSQL (how rigbench scales
-past one process; the API keeps no state between requests).
+busy timeout), on PostgreSQL, on ``rigbench serve --workers 2`` (two processes behind one socket) over
+either, and on two server processes sharing one PostgreSQL (how rigbench scales past one machine; the
+API keeps no state between requests).
 """
 
 from __future__ import annotations
@@ -100,6 +101,15 @@ def test_no_update_is_lost_with_if_match_on_one_server(backend, tmp_path):
     with database(backend, tmp_path) as data, Server(data.url, tmp_path) as server:
         run_trial([server.url], data.key)
         check_the_log_holds_no_key(server, data.key)
+
+
+@pytest.mark.parametrize("backend", ["sqlite", pytest.param("postgres", marks=pytest.mark.postgres)])
+def test_no_update_is_lost_with_two_workers_of_one_server(backend, tmp_path):
+    with database(backend, tmp_path) as data, Server(data.url, tmp_path, workers=2) as server:
+        run_trial([server.url], data.key)
+        check_the_log_holds_no_key(server, data.key)
+        # Both workers took updates: the request log's PATCH lines come from two processes.
+        assert len(server.worker_pids("PATCH")) == 2, server.log()[-2000:]
 
 
 @pytest.mark.postgres
