@@ -219,11 +219,13 @@ class Me(AccountPublic):
 # --- calculators ----------------------------------------------------------------------------------
 
 class OutputPublic(BaseModel):
-    name: str
+    name: str = Field(description="Output name, the key in results (a contract).")
+    label: str = Field(description="Short name for a person, e.g. 'Pixel scale'; shown with the unit.")
     unit: str = Field(description="pint-readable unit; '' when dimensionless.")
-    description: str
-    kind: str
-    nullable: bool
+    description: str = Field(description="What the figure is, with its formula.")
+    kind: str = Field(description="number, text or boolean.")
+    integer: bool = Field(description="A count: whole numbers.")
+    nullable: bool = Field(description="May be null where an optional input is missing.")
     relative: bool = Field(description="Depends on the baseline rig.")
 
 

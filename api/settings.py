@@ -78,6 +78,18 @@ class Settings(BaseSettings):
         description="Server processes `rigbench serve` starts (`--workers` overrides it); 0: one per "
         "CPU core this process may use, the production default. `--demo` serves with 1.",
     )
+    session_secret: str = Field(
+        default="",
+        description="Key that signs the members' page session cookies; empty: a random one per process "
+        "(sign-ins then last until a restart and do not carry between server processes).",
+    )
+    session_max_age_s: int = Field(
+        default=8 * 3600, gt=0, le=30 * 24 * 3600,
+        description="Seconds a members' page sign-in lasts (the signed cookie expires then).",
+    )
+    session_cookie_secure: bool = Field(
+        default=False, description="Send the session cookie over HTTPS only (set it when served over TLS).",
+    )
     request_log: bool = Field(
         default=True, description="Write one JSON line per request (id, method, path, status, time) to stderr."
     )

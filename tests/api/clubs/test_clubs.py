@@ -263,7 +263,7 @@ def test_the_comparison_as_csv_has_a_row_per_rig_and_units_in_headers(app, clien
     assert [int(r["rig_id"]) for r in table] == ids
     assert [r["baseline"] for r in table] == ["false", "true", "false"]
     assert float(table[1]["light_grasp.area_ratio"]) == 1.0
-    assert "light_grasp.clear_area_mm2 [mm^2]" in table[0]
+    assert "light_grasp.clear_area_mm2 [mm²]" in table[0]
     assert "kestrel-ridge-astro-comparison.csv" in response.headers["content-disposition"]
 
 
