@@ -92,24 +92,24 @@ class Visual(Calculator):
     Params = VisualParams
     outputs = (
         Output("magnification", "", "Effective focal length ÷ eyepiece focal length.", nullable=True,
-               needs=(EYEPIECE_FOCAL,)),
+               needs=(EYEPIECE_FOCAL,), label="Magnification"),
         Output("exit_pupil_mm", "mm", "Diameter of the beam leaving the eyepiece, D ÷ magnification.",
-               nullable=True, needs=(EYEPIECE_FOCAL,)),
+               nullable=True, needs=(EYEPIECE_FOCAL,), label="Exit pupil"),
         Output("true_field_arcmin", "arcmin", "Angle of sky seen: from the field stop when stated, else "
                "apparent field ÷ magnification (see true_field_method).", nullable=True,
-               needs=(EYEPIECE_FOCAL, EYEPIECE_FIELD)),
-        Output("true_field_method", "", "'field stop' or 'apparent field / magnification'.", kind="text"),
+               needs=(EYEPIECE_FOCAL, EYEPIECE_FIELD), label="True field"),
+        Output("true_field_method", "", "'field stop' or 'apparent field / magnification'.", kind="text", label="True field from"),
         Output("min_useful_magnification", "", "Lowest magnification whose exit pupil fits the eye's pupil.",
-               nullable=True),
+               nullable=True, label="Lowest useful magnification"),
         Output("max_useful_magnification", "", "Highest useful magnification by the per-millimetre rule.",
-               nullable=True),
+               nullable=True, label="Highest useful magnification"),
         Output("surface_brightness_ratio", "", "Extended object's brightness through the eyepiece ÷ by the "
-               "naked eye (≤ 1).", nullable=True, needs=(EYEPIECE_FOCAL,)),
+               "naked eye (≤ 1).", nullable=True, needs=(EYEPIECE_FOCAL,), label="Surface brightness vs eye"),
         Output("surface_brightness_change_mag", "mag", "The same as a magnitude change (≥ 0: dimmer).",
-               nullable=True, needs=(EYEPIECE_FOCAL,)),
+               nullable=True, needs=(EYEPIECE_FOCAL,), label="Surface brightness change"),
         Output("wasted_aperture_fraction", "", "Share of the aperture the eye cannot take in (exit pupil "
-               "wider than the eye's pupil); 0 otherwise.", nullable=True, needs=(EYEPIECE_FOCAL,)),
-        Output("exit_pupil_verdict", "", "Whether the exit pupil is wider than the eye's pupil.", kind="text"),
+               "wider than the eye's pupil); 0 otherwise.", nullable=True, needs=(EYEPIECE_FOCAL,), label="Aperture wasted"),
+        Output("exit_pupil_verdict", "", "Whether the exit pupil is wider than the eye's pupil.", kind="text", label="Exit pupil vs eye"),
     )
     sources = (
         "Magnification F/f_e and exit pupil D/M: first-order optics (e.g. Smith, Modern Optical "
