@@ -9,7 +9,7 @@ from hypothesis import strategies as st
 
 from calculators.batch import AXES, PRICE_SLOTS, RigBatch
 from calculators.schemas import Camera, Modifier, Mount, Rig, Telescope
-from rig_strategies import rig_lists, sweeps
+from plugins.testing import rig_lists, sweeps
 
 SCOPE_200 = Telescope(name="200 mm f/5 newtonian", design="newtonian", aperture_mm=200,
                       focal_length_mm=1000, obstruction_mm=70, mass_kg=9.5,

@@ -4,19 +4,13 @@ import math
 
 import numpy as np
 import pytest
-from example_rigs import (
-    assert_sweep_equals_rows,
-    cameras,
-    demo_rigs,
-    modifiers,
-    outputs,
-    telescopes,
-)
-from hypothesis import given, settings
+from example_rigs import demo_outcome, demo_rigs, outputs
+from hypothesis import given
 from hypothesis import strategies as st
 
 from calculators.builtin.coma_field import ComaField, ComaFieldParams
 from calculators.schemas import Camera, Modifier, Rig, Telescope
+from plugins.testing import conformance_checks
 
 CALC = ComaField()
 
@@ -166,18 +160,14 @@ def test_barlow_scales_linear_field_but_not_angular_field(aperture, ratio):
                                bare["diffraction_limited_field_arcmin"], rtol=1e-12)
 
 
-@settings(max_examples=25, deadline=None)
-@given(st.lists(telescopes(), min_size=1, max_size=3), st.lists(cameras(), min_size=1, max_size=2),
-       st.lists(modifiers(), min_size=1, max_size=3))
-def test_sweep_batch_equals_single_rig_results(ts, cs, ms):
-    assert_sweep_equals_rows(CALC, ts, cs, ms)
+@pytest.mark.parametrize("check", conformance_checks(ComaField), ids=str)
+def test_meets_the_conformance_kit(check):
+    # plugins/testing.py: contract, default params, declared outputs, batch = rows, sweep = rows,
+    # unit strings = numbers.
+    check()
 
 
 def test_runs_through_compare_with_default_params():
-    from plugins.compare import compare
-
-    result = compare(demo_rigs(), calculators=["coma_field"])
-    outcome = result.results["coma_field"]
-    assert outcome.error is None
+    outcome = demo_outcome("coma_field")
     assert outcome.outputs["verdict"].values[2] == "not applicable"
     assert outcome.outputs["diffraction_limited_field_mm"].values[2] is None

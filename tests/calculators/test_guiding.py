@@ -6,12 +6,13 @@ import astropy.units as u
 import numpy as np
 import pytest
 from astropy.stats import gaussian_sigma_to_fwhm
-from example_rigs import assert_sweep_equals_rows, cameras, demo_rigs, modifiers, outputs, telescopes
-from hypothesis import given, settings
+from example_rigs import demo_outcome, outputs
+from hypothesis import given
 from hypothesis import strategies as st
 
 from calculators.builtin.guiding import GAUSSIAN_FWHM_PER_SIGMA, Guiding, GuidingParams
 from calculators.schemas import Camera, Rig, Telescope
+from plugins.testing import conformance_checks
 
 CALC = Guiding()
 
@@ -110,18 +111,14 @@ def test_guide_focal_length_times_guide_scale_is_the_guide_pixel_in_arcsec_mm(
     np.testing.assert_allclose(product, 206264.80624709636 * guide_pixel * 1e-3, rtol=1e-12)
 
 
-@settings(max_examples=25, deadline=None)
-@given(st.lists(telescopes(), min_size=1, max_size=3), st.lists(cameras(), min_size=1, max_size=2),
-       st.lists(modifiers(), min_size=1, max_size=2))
-def test_sweep_batch_equals_single_rig_results(ts, cs, ms):
-    assert_sweep_equals_rows(CALC, ts, cs, ms)
+@pytest.mark.parametrize("check", conformance_checks(Guiding), ids=str)
+def test_meets_the_conformance_kit(check):
+    # plugins/testing.py: contract, default params, declared outputs, batch = rows, sweep = rows,
+    # unit strings = numbers.
+    check()
 
 
 def test_runs_through_compare_with_default_params():
-    from plugins.compare import compare
-
-    result = compare(demo_rigs(), calculators=["guiding"])
-    outcome = result.results["guiding"]
-    assert outcome.error is None
+    outcome = demo_outcome("guiding")
     assert outcome.cautions
     assert all(v > 0 for v in outcome.outputs["tolerated_rms_arcsec"].values)

@@ -6,8 +6,8 @@ import astropy.constants as const
 import astropy.units as u
 import numpy as np
 import pytest
-from example_rigs import assert_sweep_equals_rows, cameras, demo_rigs, modifiers, outputs, telescopes
-from hypothesis import given, settings
+from example_rigs import demo_outcome, outputs
+from hypothesis import given
 from hypothesis import strategies as st
 
 from calculators.builtin.integration_time import (
@@ -17,6 +17,7 @@ from calculators.builtin.integration_time import (
     photon_rate_per_m2,
 )
 from calculators.schemas import Camera, Rig, Telescope
+from plugins.testing import conformance_checks
 
 CALC = IntegrationTime()
 
@@ -137,19 +138,15 @@ def test_equal_focal_ratio_and_pixel_scale_rate_follows_clear_area(aperture, rat
     np.testing.assert_allclose(b["object_rate_e_s"], a["object_rate_e_s"] * k**2, rtol=1e-12)
 
 
-@settings(max_examples=25, deadline=None)
-@given(st.lists(telescopes(), min_size=1, max_size=3), st.lists(cameras(), min_size=1, max_size=2),
-       st.lists(modifiers(), min_size=1, max_size=2))
-def test_sweep_batch_equals_single_rig_results(ts, cs, ms):
-    assert_sweep_equals_rows(CALC, ts, cs, ms)
+@pytest.mark.parametrize("check", conformance_checks(IntegrationTime), ids=str)
+def test_meets_the_conformance_kit(check):
+    # plugins/testing.py: contract, default params, declared outputs, batch = rows, sweep = rows,
+    # unit strings = numbers.
+    check()
 
 
 def test_runs_through_compare_with_default_params():
-    from plugins.compare import compare
-
-    result = compare(demo_rigs(), calculators=["integration_time"])
-    outcome = result.results["integration_time"]
-    assert outcome.error is None
+    outcome = demo_outcome("integration_time")
     assert any("full-aperture solar filter" in c for c in outcome.cautions)
     assert outcome.outputs["total_time_s"].values[2] is None  # the bare camera states no QE
     assert outcome.outputs["sub_exposures"].values[0] >= 1

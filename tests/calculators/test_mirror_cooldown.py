@@ -5,8 +5,8 @@ import math
 import astropy.constants as const
 import numpy as np
 import pytest
-from example_rigs import assert_sweep_equals_rows, cameras, demo_rigs, modifiers, outputs, telescopes
-from hypothesis import given, settings
+from example_rigs import demo_outcome, outputs
+from hypothesis import given
 from hypothesis import strategies as st
 
 from calculators.builtin.mirror_cooldown import (
@@ -19,6 +19,7 @@ from calculators.builtin.mirror_cooldown import (
     radiative_conductance_w_m2k,
 )
 from calculators.schemas import Camera, Rig, Telescope
+from plugins.testing import conformance_checks
 
 CALC = MirrorCooldown()
 
@@ -165,19 +166,15 @@ def test_each_factor_e_of_initial_difference_adds_one_slowest_mode_time(thicknes
     assert a["time_constant_min"][0] <= added <= a["time_constant_min"][0] * (1 + a["biot_number"][0] / 2)
 
 
-@settings(max_examples=25, deadline=None)
-@given(st.lists(telescopes(), min_size=1, max_size=3), st.lists(cameras(), min_size=1, max_size=2),
-       st.lists(modifiers(), min_size=1, max_size=2))
-def test_sweep_batch_equals_single_rig_results(ts, cs, ms):
-    assert_sweep_equals_rows(CALC, ts, cs, ms)
+@pytest.mark.parametrize("check", conformance_checks(MirrorCooldown), ids=str)
+def test_meets_the_conformance_kit(check):
+    # plugins/testing.py: contract, default params, declared outputs, batch = rows, sweep = rows,
+    # unit strings = numbers.
+    check()
 
 
 def test_runs_through_compare_with_default_params():
-    from plugins.compare import compare
-
-    result = compare(demo_rigs(), calculators=["mirror_cooldown"])
-    outcome = result.results["mirror_cooldown"]
-    assert outcome.error is None
+    outcome = demo_outcome("mirror_cooldown")
     assert outcome.outputs["time_constant_min"].unit == "min"
     assert outcome.outputs["time_constant_min"].values[2] is None  # the refractor states no mirror
     assert outcome.outputs["time_constant_min"].values[0] > 0

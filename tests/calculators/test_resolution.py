@@ -5,22 +5,14 @@ import math
 import astropy.units as u
 import numpy as np
 import pytest
-from example_rigs import (
-    assert_sweep_equals_rows,
-    camera_376,
-    cameras,
-    modifiers,
-    newtonian_200_f5,
-    outputs,
-    refractor_80_f6,
-    telescopes,
-)
-from hypothesis import given, settings
+from example_rigs import camera_376, demo_outcome, demo_rigs, newtonian_200_f5, outputs, refractor_80_f6
+from hypothesis import given
 from hypothesis import strategies as st
 
 from calculators.builtin.optics import ARCSEC_PER_RAD, BESSEL_J1_FIRST_ZERO, RAYLEIGH_FACTOR
 from calculators.builtin.resolution import Resolution, ResolutionParams
 from calculators.schemas import Camera, Modifier, Rig, Telescope
+from plugins.testing import conformance_checks
 
 CALC = Resolution()
 
@@ -139,11 +131,11 @@ def test_rayleigh_is_proportional_to_wavelength(aperture, wavelength, factor):
     np.testing.assert_allclose(long["dawes_arcsec"], short["dawes_arcsec"], rtol=0)
 
 
-@settings(max_examples=25, deadline=None)
-@given(st.lists(telescopes(), min_size=1, max_size=3), st.lists(cameras(), min_size=1, max_size=2),
-       st.lists(modifiers(), min_size=1, max_size=2))
-def test_sweep_batch_equals_single_rig_results(ts, cs, ms):
-    assert_sweep_equals_rows(CALC, ts, cs, ms)
+@pytest.mark.parametrize("check", conformance_checks(Resolution), ids=str)
+def test_meets_the_conformance_kit(check):
+    # plugins/testing.py: contract, default params, declared outputs, batch = rows, sweep = rows,
+    # unit strings = numbers.
+    check()
 
 
 def test_demo_rigs_compute_with_default_params():
@@ -154,12 +146,6 @@ def test_demo_rigs_compute_with_default_params():
 
 
 def test_runs_through_compare_with_default_params():
-    from example_rigs import demo_rigs
-
-    from plugins.compare import compare
-
-    result = compare(demo_rigs()[:2], calculators=["resolution"])
-    outcome = result.results["resolution"]
-    assert outcome.error is None
+    outcome = demo_outcome("resolution", demo_rigs()[:2])
     assert outcome.outputs["rayleigh_arcsec"].unit == "arcsec"
     assert len(outcome.outputs["airy_diameter_um"].values) == 2

@@ -10,21 +10,11 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 from pydantic import ValidationError
-from rig_strategies import (
-    assert_batch_equals_single_rigs,
-    assert_outputs_equal,
-    assert_sweep_equals_rigs,
-    compute,
-    in_imperial_units,
-    rig_dicts,
-    rig_lists,
-    rigs,
-    sweeps,
-)
 
 from calculators.batch import RigBatch
 from calculators.builtin.sampling import ARCMIN_PER_RAD, ARCSEC_PER_RAD, Sampling, SamplingParams
 from calculators.schemas import Camera, Rig, Telescope
+from plugins.testing import compute, conformance_checks, rigs
 
 CALC = Sampling()
 
@@ -110,25 +100,11 @@ def test_suggested_binning_is_the_coarsest_that_keeps_the_minimum(r, seeing, max
         assert ppf / (b + 1) < 2.0  # one step coarser would not
 
 
-@given(rig_lists(max_size=5))
-@settings(deadline=None, max_examples=50)
-def test_batch_results_equal_single_rig_results_row_by_row(rig_list):
-    assert_batch_equals_single_rigs(CALC, rig_list)
-
-
-@given(sweeps())
-@settings(deadline=None, max_examples=40)
-def test_sweep_batch_equals_one_row_per_combination(sweep):
-    assert_sweep_equals_rigs(CALC, *sweep)
-
-
-@given(rig_dicts())
-@settings(deadline=None)
-def test_unit_strings_give_the_same_answer_as_canonical_numbers(data):
-    canonical = outputs(Rig.model_validate(data))
-    imperial = outputs(Rig.model_validate(in_imperial_units(data)))
-    # A few ulp from inch round trips; the verdict could flip only exactly on a bound.
-    assert_outputs_equal(CALC, imperial, canonical, rtol=1e-12)
+@pytest.mark.parametrize("check", conformance_checks(Sampling), ids=str)
+def test_meets_the_conformance_kit(check):
+    # plugins/testing.py: contract, default params, declared outputs, batch = rows, sweep = rows,
+    # unit strings = numbers.
+    check()
 
 
 def test_verdict_in_a_sweep_keeps_the_shape_of_its_inputs():

@@ -16,7 +16,7 @@ from calculators.schemas import (
     Rig,
     Telescope,
 )
-from rig_strategies import KG_PER_POUND, MM_PER_INCH, in_imperial_units, rig_dicts
+from plugins.testing import KG_PER_POUND, MM_PER_INCH, in_imperial_units, rig_dicts
 
 TELESCOPE = {"aperture_mm": 200, "focal_length_mm": 1000}
 CAMERA = {"pixel_size_um": 3.76, "width_px": 6248, "height_px": 4176}

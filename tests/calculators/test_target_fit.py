@@ -5,8 +5,8 @@ import math
 import astropy.units as u
 import numpy as np
 import pytest
-from example_rigs import assert_sweep_equals_rows, cameras, demo_rigs, modifiers, outputs, telescopes
-from hypothesis import given, settings
+from example_rigs import demo_outcome, demo_rigs, outputs
+from hypothesis import given
 from hypothesis import strategies as st
 from pydantic import ValidationError
 from pyongc import ongc
@@ -15,6 +15,7 @@ from calculators.builtin.target_fit import DEFAULT_TARGET, TargetFit, TargetFitP
 from calculators.schemas import Camera, Modifier, Rig, Telescope
 from plugins.compare import compare
 from plugins.runner import InvalidParams
+from plugins.testing import conformance_checks
 
 CALC = TargetFit()
 
@@ -127,17 +128,15 @@ def test_a_modifier_acts_as_a_change_of_focal_length(focal, factor):
                                outputs(CALC, [rig(focal * factor)])["fill_fraction"], rtol=1e-12)
 
 
-@settings(max_examples=25, deadline=None)
-@given(st.lists(telescopes(), min_size=1, max_size=3), st.lists(cameras(), min_size=1, max_size=2),
-       st.lists(modifiers(), min_size=1, max_size=2))
-def test_sweep_batch_equals_single_rig_results(ts, cs, ms):
-    assert_sweep_equals_rows(CALC, ts, cs, ms)
+@pytest.mark.parametrize("check", conformance_checks(TargetFit), ids=str)
+def test_meets_the_conformance_kit(check):
+    # plugins/testing.py: contract, default params, declared outputs, batch = rows, sweep = rows,
+    # unit strings = numbers.
+    check()
 
 
 def test_runs_through_compare_with_default_params():
-    result = compare(demo_rigs(), calculators=["target_fit"])
-    outcome = result.results["target_fit"]
-    assert outcome.error is None
+    outcome = demo_outcome("target_fit")
     assert any("full-aperture solar filter" in c for c in outcome.cautions)
     assert outcome.outputs["target_name"].values[0].startswith("NGC 598")
     assert len(outcome.outputs["panels"].values) == 3
