@@ -162,8 +162,7 @@ def test_barlow_scales_linear_field_but_not_angular_field(aperture, ratio):
 
 @pytest.mark.parametrize("check", conformance_checks(ComaField), ids=str)
 def test_meets_the_conformance_kit(check):
-    # plugins/testing.py: contract, default params, declared outputs, batch = rows, sweep = rows,
-    # unit strings = numbers.
+    # plugins/testing.py: the contract and the invariants every calculator shares
     check()
 
 

@@ -90,8 +90,7 @@ def test_price_per_cm2_scales_inversely_with_the_clear_area(r, k):
 
 @pytest.mark.parametrize("check", conformance_checks(Cost), ids=str)
 def test_meets_the_conformance_kit(check):
-    # plugins/testing.py: contract, default params, declared outputs, batch = rows, sweep = rows,
-    # unit strings = numbers.
+    # plugins/testing.py: the contract and the invariants every calculator shares
     check()
 
 

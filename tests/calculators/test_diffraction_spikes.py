@@ -177,8 +177,7 @@ def test_spike_light_is_proportional_to_vane_count_and_width(vanes, width, apert
 
 @pytest.mark.parametrize("check", conformance_checks(DiffractionSpikes), ids=str)
 def test_meets_the_conformance_kit(check):
-    # plugins/testing.py: contract, default params, declared outputs, batch = rows, sweep = rows,
-    # unit strings = numbers.
+    # plugins/testing.py: the contract and the invariants every calculator shares
     check()
 
 

@@ -125,8 +125,7 @@ def test_longer_tube_sweeps_farther(length, diameter, k):
 
 @pytest.mark.parametrize("check", conformance_checks(DomeClearance), ids=str)
 def test_meets_the_conformance_kit(check):
-    # plugins/testing.py: contract, default params, declared outputs, batch = rows, sweep = rows,
-    # unit strings = numbers.
+    # plugins/testing.py: the contract and the invariants every calculator shares
     check()
 
 

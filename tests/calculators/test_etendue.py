@@ -60,8 +60,7 @@ def test_etendue_is_conserved_aperture_area_times_sky_angle_equals_detector_area
 
 @pytest.mark.parametrize("check", conformance_checks(Etendue), ids=str)
 def test_meets_the_conformance_kit(check):
-    # plugins/testing.py: contract, default params, declared outputs, batch = rows, sweep = rows,
-    # unit strings = numbers, relative outputs.
+    # plugins/testing.py: the contract and the invariants every calculator shares
     check()
 
 

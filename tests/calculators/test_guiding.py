@@ -113,8 +113,7 @@ def test_guide_focal_length_times_guide_scale_is_the_guide_pixel_in_arcsec_mm(
 
 @pytest.mark.parametrize("check", conformance_checks(Guiding), ids=str)
 def test_meets_the_conformance_kit(check):
-    # plugins/testing.py: contract, default params, declared outputs, batch = rows, sweep = rows,
-    # unit strings = numbers.
+    # plugins/testing.py: the contract and the invariants every calculator shares
     check()
 
 

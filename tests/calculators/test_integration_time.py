@@ -140,8 +140,7 @@ def test_equal_focal_ratio_and_pixel_scale_rate_follows_clear_area(aperture, rat
 
 @pytest.mark.parametrize("check", conformance_checks(IntegrationTime), ids=str)
 def test_meets_the_conformance_kit(check):
-    # plugins/testing.py: contract, default params, declared outputs, batch = rows, sweep = rows,
-    # unit strings = numbers.
+    # plugins/testing.py: the contract and the invariants every calculator shares
     check()
 
 

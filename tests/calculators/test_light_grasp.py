@@ -32,8 +32,7 @@ def outputs(*rig_list, baseline=0, **params):
 
 @pytest.mark.parametrize("check", conformance_checks(LightGrasp), ids=str)
 def test_meets_the_conformance_kit(check):
-    # plugins/testing.py: contract, default params, declared outputs, batch = rows, sweep = rows,
-    # unit strings = numbers, relative outputs.
+    # plugins/testing.py: the contract and the invariants every calculator shares
     check()
 
 

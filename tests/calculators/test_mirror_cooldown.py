@@ -168,8 +168,7 @@ def test_each_factor_e_of_initial_difference_adds_one_slowest_mode_time(thicknes
 
 @pytest.mark.parametrize("check", conformance_checks(MirrorCooldown), ids=str)
 def test_meets_the_conformance_kit(check):
-    # plugins/testing.py: contract, default params, declared outputs, batch = rows, sweep = rows,
-    # unit strings = numbers.
+    # plugins/testing.py: the contract and the invariants every calculator shares
     check()
 
 

@@ -120,8 +120,7 @@ def test_outputs_are_null_exactly_where_an_input_is_missing(r):
 
 @pytest.mark.parametrize("check", conformance_checks(Payload), ids=str)
 def test_meets_the_conformance_kit(check):
-    # plugins/testing.py: contract, default params, declared outputs, batch = rows, sweep = rows,
-    # unit strings = numbers.
+    # plugins/testing.py: the contract and the invariants every calculator shares
     check()
 
 

@@ -133,8 +133,7 @@ def test_rayleigh_is_proportional_to_wavelength(aperture, wavelength, factor):
 
 @pytest.mark.parametrize("check", conformance_checks(Resolution), ids=str)
 def test_meets_the_conformance_kit(check):
-    # plugins/testing.py: contract, default params, declared outputs, batch = rows, sweep = rows,
-    # unit strings = numbers.
+    # plugins/testing.py: the contract and the invariants every calculator shares
     check()
 
 

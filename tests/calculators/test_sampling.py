@@ -102,8 +102,7 @@ def test_suggested_binning_is_the_coarsest_that_keeps_the_minimum(r, seeing, max
 
 @pytest.mark.parametrize("check", conformance_checks(Sampling), ids=str)
 def test_meets_the_conformance_kit(check):
-    # plugins/testing.py: contract, default params, declared outputs, batch = rows, sweep = rows,
-    # unit strings = numbers.
+    # plugins/testing.py: the contract and the invariants every calculator shares
     check()
 
 

@@ -66,8 +66,7 @@ def test_time_factor_per_pixel_is_the_focal_ratio_squared_for_equal_pixels_and_t
 
 @pytest.mark.parametrize("check", conformance_checks(Speed), ids=str)
 def test_meets_the_conformance_kit(check):
-    # plugins/testing.py: contract, default params, declared outputs, batch = rows, sweep = rows,
-    # unit strings = numbers, relative outputs.
+    # plugins/testing.py: the contract and the invariants every calculator shares
     check()
 
 

@@ -130,8 +130,7 @@ def test_a_modifier_acts_as_a_change_of_focal_length(focal, factor):
 
 @pytest.mark.parametrize("check", conformance_checks(TargetFit), ids=str)
 def test_meets_the_conformance_kit(check):
-    # plugins/testing.py: contract, default params, declared outputs, batch = rows, sweep = rows,
-    # unit strings = numbers.
+    # plugins/testing.py: the contract and the invariants every calculator shares
     check()
 
 
