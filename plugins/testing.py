@@ -54,7 +54,15 @@ from calculators.base import Calculator
 from calculators.batch import RigBatch
 from calculators.schemas import Rig
 from plugins.compare import compare
-from plugins.registry import GROUP, CalculatorEntry, Registry, check_unit, load_registry, validate
+from plugins.registry import (
+    GROUP,
+    CalculatorEntry,
+    ContractError,
+    Registry,
+    check_unit,
+    load_registry,
+    validate,
+)
 from plugins.runner import parse_params, run
 from plugins.strategies import (
     KG_PER_POUND,
@@ -141,7 +149,10 @@ class Check:
 
 
 def _contract(check: Check) -> None:
-    validate(check.calculator)
+    try:
+        validate(check.calculator)
+    except ContractError as exc:
+        raise AssertionError(f"{check.calculator.name} breaks the calculator contract: {exc}") from None
     cls = type(check.calculator)
     if "<locals>" not in cls.__qualname__:  # importable: load it exactly as the service would
         ep = EntryPoint(check.calculator.name, f"{cls.__module__}:{cls.__qualname__}", GROUP)

@@ -26,16 +26,16 @@ def refractor_80_f6(**extra) -> Telescope:
     )
 
 
-def camera_376(**extra) -> Camera:
+def cooled_camera(**extra) -> Camera:
     return Camera(
-        name="3.76 µm cooled camera", pixel_size_um=3.76, width_px=6248, height_px=4176,
+        name="3.8 µm cooled camera", pixel_size_um=3.8, width_px=6000, height_px=4000,
         quantum_efficiency=0.8, read_noise_e=1.5, dark_current_e_per_s=0.003, mass_kg=0.7, **extra,
     )
 
 
 def camera_bare(**extra) -> Camera:
     """A camera that states only its pixel grid: optional inputs are missing."""
-    return Camera(name="bare camera", pixel_size_um=2.9, width_px=1936, height_px=1096, **extra)
+    return Camera(name="bare camera", pixel_size_um=3.0, width_px=2000, height_px=1200, **extra)
 
 
 def coma_corrector(**extra) -> Modifier:
@@ -50,9 +50,9 @@ def demo_rigs() -> list[Rig]:
     """A handful of rigs covering the cases the calculators distinguish."""
     return [
         Rig(name="200 mm f/5 newtonian, cooled camera", telescope=newtonian_200_f5(),
-            camera=camera_376(), mount=mount_gem()),
+            camera=cooled_camera(), mount=mount_gem()),
         Rig(name="200 mm f/5 newtonian with coma corrector", telescope=newtonian_200_f5(),
-            modifier=coma_corrector(), camera=camera_376(), mount=mount_gem()),
+            modifier=coma_corrector(), camera=cooled_camera(), mount=mount_gem()),
         Rig(name="80 mm f/6 refractor, bare camera", telescope=refractor_80_f6(), camera=camera_bare()),
     ]
 

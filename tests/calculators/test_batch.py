@@ -16,7 +16,7 @@ SCOPE_200 = Telescope(name="200 mm f/5 newtonian", design="newtonian", aperture_
                       price={"amount": 900, "currency": "EUR"})
 SCOPE_80 = Telescope(name="80 mm f/6 refractor", design="refractor", aperture_mm=80,
                      focal_length_mm=480)
-CAMERA = Camera(pixel_size_um=3.76, width_px=6248, height_px=4176, mass_kg=0.7)
+CAMERA = Camera(pixel_size_um=3.8, width_px=6000, height_px=4000, mass_kg=0.7)
 REDUCER = Modifier(kind="reducer", factor=0.8, mass_kg=0.3)
 MOUNT = Mount(capacity_kg=20, price={"amount": 1500, "currency": "EUR"})
 

@@ -15,12 +15,12 @@ from plugins.testing import conformance_checks
 CALC = ComaField()
 
 
-def newtonian(aperture_mm, ratio, modifier=None, design="newtonian", pixel_um=3.76) -> Rig:
+def newtonian(aperture_mm, ratio, modifier=None, design="newtonian", pixel_um=3.8) -> Rig:
     return Rig(
         name="n",
         telescope=Telescope(design=design, aperture_mm=aperture_mm, focal_length_mm=aperture_mm * ratio,
                             obstruction_mm=0.3 * aperture_mm if design != "refractor" else 0),
-        camera=Camera(pixel_size_um=pixel_um, width_px=6248, height_px=4176),
+        camera=Camera(pixel_size_um=pixel_um, width_px=6000, height_px=4000),
         modifier=modifier,
     )
 
@@ -78,8 +78,8 @@ def test_fields_per_cubed_focal_ratio_at_550_nm_match_the_quoted_coefficients():
 def test_fast_newtonian_needs_a_corrector_and_corrected_one_fits():
     values = outputs(CALC, demo_rigs()[:2])
     # Schroeder's coma with the Maréchal criterion at f/5: 38.79·0.00055·125 ≈ 2.67 mm, far below the
-    # 28.3 mm diagonal of a 6248 × 4176 sensor of 3.76 µm pixels (plane geometry).
-    diagonal = math.hypot(6248, 4176) * 3.76e-3
+    # 27.4 mm diagonal of a 6000 × 4000 sensor of 3.8 µm pixels (plane geometry).
+    diagonal = math.hypot(6000, 4000) * 3.8e-3
     assert values["sensor_diagonal_mm"][0] == pytest.approx(diagonal, rel=1e-12)
     assert values["verdict"][0] == "corrector needed"
     assert values["field_to_sensor"][0] < 0.1

@@ -34,7 +34,7 @@ def rig(telescope=None, camera=None, modifier=None, mount=None, accessories=(), 
         "name": "rig",
         "telescope": {"aperture_mm": aperture_mm, "focal_length_mm": 1000, "obstruction_mm": obstruction_mm,
                       "price": price(telescope, currency)},
-        "camera": {"pixel_size_um": 3.76, "width_px": 6248, "height_px": 4176,
+        "camera": {"pixel_size_um": 3.8, "width_px": 6000, "height_px": 4000,
                    "price": price(camera, currency)},
         "accessories": [{"name": "part", "price": price(a, currency)} for a in accessories],
     }
@@ -165,7 +165,7 @@ def test_a_target_currency_without_rates_refuses_other_currencies():
 
 def test_mixed_currencies_in_a_sweep_are_found_on_the_component_axes():
     scopes = [Telescope(aperture_mm=100, focal_length_mm=500, price=price(300.0, c)) for c in ("EUR", "USD")]
-    cameras = [Camera(pixel_size_um=3.76, width_px=1000, height_px=800, price=price(200.0))]
+    cameras = [Camera(pixel_size_um=3.8, width_px=1000, height_px=800, price=price(200.0))]
     batch = RigBatch.from_components(scopes, cameras)
     with pytest.raises(CalculationError, match="telescope_price"):
         CALC.compute(batch, CostParams())

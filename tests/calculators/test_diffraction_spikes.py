@@ -78,7 +78,7 @@ def rig(vanes, design="newtonian", aperture=200.0, obstruction=70.0) -> Rig:
         name="r",
         telescope=Telescope(design=design, aperture_mm=aperture, focal_length_mm=aperture * 5,
                             obstruction_mm=obstruction, spider_vanes=vanes),
-        camera=Camera(pixel_size_um=3.76, width_px=100, height_px=100),
+        camera=Camera(pixel_size_um=3.8, width_px=100, height_px=100),
     )
 
 

@@ -20,7 +20,7 @@ def rig(length_mm=950.0, diameter_mm=235.0, mount_type="german-equatorial") -> R
         name="r",
         telescope=Telescope(aperture_mm=200, focal_length_mm=1000, length_mm=length_mm,
                             tube_diameter_mm=diameter_mm),
-        camera=Camera(pixel_size_um=3.76, width_px=100, height_px=100),
+        camera=Camera(pixel_size_um=3.8, width_px=100, height_px=100),
         mount=Mount(type=mount_type, capacity_kg=20),
     )
 
@@ -90,7 +90,7 @@ def test_fork_mount_has_no_declination_offset():
 
 def test_missing_tube_size_is_unknown():
     bare = Rig(name="r", telescope=Telescope(aperture_mm=200, focal_length_mm=1000),
-               camera=Camera(pixel_size_um=3.76, width_px=100, height_px=100))
+               camera=Camera(pixel_size_um=3.8, width_px=100, height_px=100))
     values = outputs(CALC, [bare])
     assert math.isnan(values["clearance_mm"][0])
     assert values["verdict"][0] == "unknown"

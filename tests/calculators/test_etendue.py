@@ -19,7 +19,7 @@ from plugins.testing import compute, conformance_checks, rigs
 CALC = Etendue()
 
 
-def rig(aperture_mm, focal_length_mm, pixel_um=3.76, width_px=6248, height_px=4176,
+def rig(aperture_mm, focal_length_mm, pixel_um=3.8, width_px=6000, height_px=4000,
         obstruction_mm=0.0, factor=None) -> Rig:
     return Rig(
         name="rig",
@@ -129,11 +129,11 @@ def test_square_degrees_per_steradian_agree_with_astropy():
 
 
 def test_pixel_etendue_is_area_times_the_pixel_angle_squared():
-    # 200 mm with a 70 mm obstruction at 1000 mm, 3.76 µm pixels: the pixel's angle p/f in radians,
+    # 200 mm with a 70 mm obstruction at 1000 mm, 3.8 µm pixels: the pixel's angle p/f in radians,
     # converted to arcsec by astropy. Small-angle form, exact to ~1e-11 at p/f = 3.8e-6.
     r = rig(200, 1000, obstruction_mm=70)
     area_m2 = math.pi / 4 * (0.2**2 - 0.07**2)
-    pixel_arcsec = (3.76e-3 / 1000 * u.rad).to(u.arcsec).value
+    pixel_arcsec = (3.8e-3 / 1000 * u.rad).to(u.arcsec).value
     assert outputs(r)["pixel_etendue_m2_arcsec2"][0] == pytest.approx(area_m2 * pixel_arcsec**2, rel=1e-12)
 
 

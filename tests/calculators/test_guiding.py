@@ -17,7 +17,7 @@ from plugins.testing import conformance_checks
 CALC = Guiding()
 
 
-def rig(focal_length_mm, pixel_um=3.76) -> Rig:
+def rig(focal_length_mm, pixel_um=3.8) -> Rig:
     return Rig(
         name="r",
         telescope=Telescope(aperture_mm=200, focal_length_mm=focal_length_mm),
@@ -44,8 +44,8 @@ def test_gaussian_fwhm_constant_matches_astropy():
 
 def test_image_scale_through_astropy_units():
     values = outputs(CALC, [rig(1000)])
-    # astropy.units: 3.76 µm subtending at 1000 mm, small-angle; float rounding only.
-    expected = (3.76 * u.um / (1000 * u.mm) * u.rad).to_value(u.arcsec)
+    # astropy.units: 3.8 µm subtending at 1000 mm, small-angle; float rounding only.
+    expected = (3.8 * u.um / (1000 * u.mm) * u.rad).to_value(u.arcsec)
     assert values["image_scale_arcsec"][0] == pytest.approx(expected, rel=1e-12)
 
 
@@ -74,9 +74,11 @@ def test_seeing_rule_widens_the_star_by_the_stated_fraction(seeing, growth):
 
 def test_worked_example_of_the_docstring():
     values = outputs(CALC, [rig(1000)])
-    # Common-practice rules with the defaults: half of 0.7756″ from the pixel rule; the seeing rule
-    # (2″, 10 %) is √2·2·√0.21/2.3548 = 0.550″ and is the looser.
-    assert values["pixel_rule_rms_arcsec"][0] == pytest.approx(0.3878, abs=1e-4)
+    # Common-practice rules with the defaults: half of the pixel scale (0.784″ for 3.8 µm at 1000 mm,
+    # through astropy.units) from the pixel rule; the seeing rule (2″, 10 %) is
+    # √2·2·√0.21/2.3548 = 0.550″ and is the looser.
+    scale = (3.8 * u.um / (1000 * u.mm) * u.rad).to_value(u.arcsec)
+    assert values["pixel_rule_rms_arcsec"][0] == pytest.approx(scale / 2, rel=1e-12)
     assert values["seeing_rule_rms_arcsec"][0] == pytest.approx(math.sqrt(2) * 2 * math.sqrt(0.21)
                                                                 / gaussian_sigma_to_fwhm, rel=1e-12)
     assert values["ruled_by"][0] == "seeing"

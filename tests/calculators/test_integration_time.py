@@ -22,7 +22,7 @@ from plugins.testing import conformance_checks
 CALC = IntegrationTime()
 
 
-def rig(aperture=200.0, focal_length=1000.0, obstruction=70.0, pixel=3.76, qe=0.8, read=1.5, dark=0.003,
+def rig(aperture=200.0, focal_length=1000.0, obstruction=70.0, pixel=3.8, qe=0.8, read=1.5, dark=0.003,
         throughput=0.81) -> Rig:
     return Rig(
         name="r",
@@ -70,7 +70,7 @@ def test_object_rate_through_astropy_units():
     # astropy's arcsec per radian). Same physics, so only the 3631 Jy rounding (6e-5) differs.
     density = (mu * u.ABmag).to(u.photon / (u.s * u.m**2 * u.nm), u.spectral_density(wavelength * u.nm))
     area = np.pi / 4 * ((200 * u.mm) ** 2 - (70 * u.mm) ** 2)
-    scale = (3.76 * u.um / (1000 * u.mm) * u.rad).to(u.arcsec)
+    scale = (3.8 * u.um / (1000 * u.mm) * u.rad).to(u.arcsec)
     rate = density * bandwidth * u.nm * area * 0.81 * 0.8 * (scale**2 / u.arcsec**2)
     assert values["object_rate_e_s"][0] == pytest.approx(rate.to_value(u.photon / u.s), rel=1e-4)
 
@@ -96,7 +96,7 @@ def test_sky_limited_sub_meets_the_stated_criterion():
 
 def test_missing_camera_data_gives_nulls():
     bare = Rig(name="r", telescope=Telescope(aperture_mm=100, focal_length_mm=600),
-               camera=Camera(pixel_size_um=3.76, width_px=10, height_px=10))
+               camera=Camera(pixel_size_um=3.8, width_px=10, height_px=10))
     values = outputs(CALC, [bare, rig()])
     assert math.isnan(values["total_time_s"][0]) and math.isnan(values["sub_exposures"][0])
     assert np.isfinite(values["total_time_s"][1])

@@ -15,7 +15,7 @@ from calculators.schemas import Rig
 from plugins.testing import MM_PER_INCH, compute, conformance_checks, rigs
 
 CALC = LightGrasp()
-CAMERA = {"pixel_size_um": 3.76, "width_px": 6248, "height_px": 4176}
+CAMERA = {"pixel_size_um": 3.8, "width_px": 6000, "height_px": 4000}
 
 
 def rig(aperture_mm, obstruction_mm=0.0) -> Rig:

@@ -29,7 +29,7 @@ def rig(thickness_mm) -> Rig:
         name="r",
         telescope=Telescope(design="newtonian", aperture_mm=250, focal_length_mm=1200, obstruction_mm=60,
                             mirror_thickness_mm=thickness_mm),
-        camera=Camera(pixel_size_um=3.76, width_px=100, height_px=100),
+        camera=Camera(pixel_size_um=3.8, width_px=100, height_px=100),
     )
 
 
@@ -125,7 +125,7 @@ def test_lag_behind_falling_air_matches_the_heat_equation(thickness_mm, h):
 
 def test_missing_thickness_gives_nulls():
     values = outputs(CALC, [Rig(name="r", telescope=Telescope(aperture_mm=100, focal_length_mm=600),
-                                camera=Camera(pixel_size_um=3.76, width_px=10, height_px=10))])
+                                camera=Camera(pixel_size_um=3.8, width_px=10, height_px=10))])
     assert math.isnan(values["time_constant_min"][0])
     assert math.isnan(values["settle_time_fan_min"][0])
     assert values["model_note"][0] == "unknown (mirror thickness not stated)"

@@ -34,7 +34,7 @@ def rig(telescope_kg=8.0, camera_kg=0.8, modifier_kg=None, accessories=(), capac
         "name": "200 mm f/5 newtonian on a german-equatorial mount",
         "telescope": {"aperture_mm": 200, "focal_length_mm": 1000, "mass_kg": telescope_kg,
                       "length_mm": length_mm, "tube_diameter_mm": diameter_mm},
-        "camera": {"pixel_size_um": 3.76, "width_px": 6248, "height_px": 4176, "mass_kg": camera_kg},
+        "camera": {"pixel_size_um": 3.8, "width_px": 6000, "height_px": 4000, "mass_kg": camera_kg},
         "accessories": [{"name": f"accessory {i}", "mass_kg": m} for i, m in enumerate(accessories)],
     }
     if modifier_kg is not None:

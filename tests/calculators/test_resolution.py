@@ -5,7 +5,7 @@ import math
 import astropy.units as u
 import numpy as np
 import pytest
-from example_rigs import camera_376, demo_outcome, demo_rigs, newtonian_200_f5, outputs, refractor_80_f6
+from example_rigs import cooled_camera, demo_outcome, demo_rigs, newtonian_200_f5, outputs, refractor_80_f6
 from hypothesis import given
 from hypothesis import strategies as st
 
@@ -17,7 +17,7 @@ from plugins.testing import conformance_checks
 CALC = Resolution()
 
 
-def rig(aperture_mm, focal_length_mm, pixel_size_um=3.76, modifier=None) -> Rig:
+def rig(aperture_mm, focal_length_mm, pixel_size_um=3.8, modifier=None) -> Rig:
     return Rig(
         name=f"{aperture_mm} mm",
         telescope=Telescope(aperture_mm=aperture_mm, focal_length_mm=focal_length_mm),
@@ -74,8 +74,8 @@ def test_airy_diameter_at_f8_and_550_nm():
     # Born & Wolf §8.5.2: Airy disc diameter 2.43934·λ·N = 10.733 µm at f/8 and 550 nm (as quoted in
     # issue 5 to 5 figures: half a unit in the last place).
     assert values["airy_diameter_um"][0] == pytest.approx(10.733, abs=5e-4)
-    # In pixels of 3.76 µm: the same figure divided by the pitch.
-    assert values["airy_diameter_px"][0] == pytest.approx(10.733 / 3.76, abs=5e-4 / 3.76)
+    # In pixels of 3.8 µm: the same figure divided by the pitch.
+    assert values["airy_diameter_px"][0] == pytest.approx(10.733 / 3.8, abs=5e-4 / 3.8)
 
 
 def test_airy_diameter_uses_the_effective_focal_ratio():
@@ -138,8 +138,8 @@ def test_meets_the_conformance_kit(check):
 
 
 def test_demo_rigs_compute_with_default_params():
-    values = outputs(CALC, [Rig(name="a", telescope=newtonian_200_f5(), camera=camera_376()),
-                            Rig(name="b", telescope=refractor_80_f6(), camera=camera_376())])
+    values = outputs(CALC, [Rig(name="a", telescope=newtonian_200_f5(), camera=cooled_camera()),
+                            Rig(name="b", telescope=refractor_80_f6(), camera=cooled_camera())])
     assert np.isfinite(values["rayleigh_arcsec"]).all()
     assert math.isclose(values["dawes_arcsec"][0], 116 / 200)
 

@@ -19,7 +19,7 @@ from plugins.testing import compute, conformance_checks, rigs
 CALC = Sampling()
 
 
-def rig(focal_length_mm, pixel_um=3.76, width_px=6248, height_px=4176, aperture_mm=None,
+def rig(focal_length_mm, pixel_um=3.8, width_px=6000, height_px=4000, aperture_mm=None,
         factor=None) -> Rig:
     return Rig(
         name="rig",
@@ -108,7 +108,7 @@ def test_meets_the_conformance_kit(check):
 
 def test_verdict_in_a_sweep_keeps_the_shape_of_its_inputs():
     scopes = [Telescope(aperture_mm=100, focal_length_mm=f) for f in (400, 800, 1600)]
-    cameras = [Camera(pixel_size_um=p, width_px=1000, height_px=1000) for p in (2.4, 3.76)]
+    cameras = [Camera(pixel_size_um=p, width_px=1000, height_px=1000) for p in (2.5, 3.8)]
     batch = RigBatch.from_components(scopes, cameras, [None], [None, None])
     out = CALC.compute(batch, SamplingParams())
     # Text outputs are numpy string arrays over only the axes they depend on (not the mount's).
@@ -123,7 +123,7 @@ def test_3_8_micron_pixels_at_1200_mm_give_about_0_65_arcsec():
     assert outputs(rig(1200, 3.8))["pixel_scale_arcsec"][0] == pytest.approx(0.65, rel=0.01)
 
 
-@pytest.mark.parametrize(("focal_mm", "pixel_um"), [(1200, 3.8), (1000, 3.76), (480, 2.9), (2800, 9.0)])
+@pytest.mark.parametrize(("focal_mm", "pixel_um"), [(1200, 3.8), (1000, 5.0), (480, 3.0), (2800, 9.0)])
 def test_pixel_scale_agrees_with_astropy_angle_conversion(focal_mm, pixel_um):
     # p/f radians converted to arcsec by astropy.units (reference library); 1e-14 relative.
     expected = (pixel_um * 1e-3 / focal_mm * u.rad).to(u.arcsec).value

@@ -16,7 +16,7 @@ CALC = Speed()
 TIME_FACTORS = ("time_factor_per_pixel", "time_factor_per_arcsec2")
 
 
-def rig(aperture_mm, focal_length_mm, pixel_um=3.76, obstruction_mm=0.0, throughput=0.9,
+def rig(aperture_mm, focal_length_mm, pixel_um=3.8, obstruction_mm=0.0, throughput=0.9,
         modifier=None) -> Rig:
     return Rig(
         name="rig",

@@ -20,7 +20,7 @@ from plugins.testing import conformance_checks
 CALC = TargetFit()
 
 
-def rig(focal_length_mm=1000.0, pixel_um=3.76, width=6248, height=4176) -> Rig:
+def rig(focal_length_mm=1000.0, pixel_um=3.8, width=6000, height=4000) -> Rig:
     return Rig(
         name="r",
         telescope=Telescope(aperture_mm=200, focal_length_mm=focal_length_mm),
@@ -62,11 +62,11 @@ def test_default_target_is_named_in_the_docstring():
 
 def test_field_and_pixels_through_astropy_units():
     values = outputs(CALC, [rig()], TargetFitParams(target="NGC 891"))
-    # astropy.units: the field is 2·atan(W/2f) for W = 6248 × 3.76 µm at 1000 mm (exact geometry).
-    width = 2 * np.arctan((6248 * 3.76 * u.um / (2 * 1000 * u.mm)).decompose().value) * u.rad
+    # astropy.units: the field is 2·atan(W/2f) for W = 6000 × 3.8 µm at 1000 mm (exact geometry).
+    width = 2 * np.arctan((6000 * 3.8 * u.um / (2 * 1000 * u.mm)).decompose().value) * u.rad
     assert values["field_width_arcmin"][0] == pytest.approx(width.to_value(u.arcmin), rel=1e-12)
-    # Pixels across 13.03′ at 206 264.806″ × 3.76e-3 mm / 1000 mm per pixel (astropy's arcsec/rad).
-    scale = (3.76 * u.um / (1000 * u.mm) * u.rad).to_value(u.arcsec)
+    # Pixels across 13.03′ at 206 264.806″ × 3.8e-3 mm / 1000 mm per pixel (astropy's arcsec/rad).
+    scale = (3.8 * u.um / (1000 * u.mm) * u.rad).to_value(u.arcsec)
     major, _, _ = ongc.Dso("NGC891").dimensions
     assert values["major_axis_px"][0] == pytest.approx(major * 60 / scale, rel=1e-12)
 
@@ -123,7 +123,7 @@ def test_pixels_across_the_object_grow_with_focal_length(focal, pixel, k):
 def test_a_modifier_acts_as_a_change_of_focal_length(focal, factor):
     modified = Rig(name="m", telescope=Telescope(aperture_mm=200, focal_length_mm=focal),
                    modifier=Modifier(kind="barlow" if factor > 1 else "reducer", factor=factor),
-                   camera=Camera(pixel_size_um=3.76, width_px=6248, height_px=4176))
+                   camera=Camera(pixel_size_um=3.8, width_px=6000, height_px=4000))
     np.testing.assert_allclose(outputs(CALC, [modified])["fill_fraction"],
                                outputs(CALC, [rig(focal * factor)])["fill_fraction"], rtol=1e-12)
 

@@ -35,7 +35,7 @@ def rig(aperture_mm: float) -> Rig:
     return Rig(
         name=f"{aperture_mm:g} mm f/5",
         telescope=Telescope(aperture_mm=aperture_mm, focal_length_mm=5 * aperture_mm),
-        camera=Camera(pixel_size_um=3.76, width_px=3000, height_px=2000),
+        camera=Camera(pixel_size_um=3.8, width_px=3000, height_px=2000),
     )
 
 
