@@ -17,6 +17,7 @@ from fastapi.openapi.utils import get_openapi
 from fastapi_offline import FastAPIOffline
 from starlette.concurrency import run_in_threadpool
 
+from api import tuning
 from api.accounts import routes as accounts
 from api.clubs import page as club_page
 from api.clubs import routes as clubs
@@ -24,12 +25,16 @@ from api.comparisons import routes as comparisons
 from api.discovery import calculators
 from api.discovery import plugins as plugins_routes
 from api.equipment import cameras, modifiers, mounts, rigs, telescopes
+from api.evaluations import pages as evaluation_pages
 from api.evaluations import routes as evaluations
+from api.evaluations import saved_routes as saved_evaluations
 from api.http import health, problems, request_log
 from api.http.body_limit import BodySizeLimit
 from api.http.health import _version
 from api.http.ratelimit import RateLimits
 from api.settings import Settings
+from api.sites import default as default_site
+from api.sites import resource as sites
 from api.storage import db
 from plugins.registry import load_registry
 
@@ -50,7 +55,7 @@ near the Sun without a proper full-aperture solar filter.
 # Hot routes first: the router tries routes in this order.
 ROUTERS = (
     health, comparisons, calculators, plugins_routes, accounts, telescopes, cameras, modifiers,
-    mounts, rigs, evaluations, clubs, club_page,
+    mounts, rigs, sites, default_site, evaluations, saved_evaluations, evaluation_pages, clubs, club_page,
 )
 
 
@@ -59,10 +64,12 @@ def create_app(settings: Settings | None = None) -> FastAPI:
 
     @asynccontextmanager
     async def lifespan(app: FastAPI) -> AsyncIterator[None]:
+        tuning.keep_freed_memory()  # numpy temporaries of big sweeps reuse freed blocks (api.tuning)
         if settings.is_sqlite:
-            # One file, one process tree: bring the schema up to date on start. On PostgreSQL the
-            # operator runs `rigbench db upgrade` once, so several servers never race to migrate.
-            db.upgrade(app.state.engine)
+            # One file, one process tree: bring the schema up to date on start (`rigbench serve`
+            # has already done it before starting its workers, so they only check). On PostgreSQL
+            # the operator runs `rigbench db upgrade` once, so several servers never race to migrate.
+            db.upgrade_if_behind(app.state.engine)
         elif warning := await run_in_threadpool(db.schema_warning, app.state.engine):
             log.warning(warning)
         yield

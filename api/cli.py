@@ -22,14 +22,17 @@ Handler = Callable[[argparse.Namespace, Settings], int]
 def run_serve(args: argparse.Namespace, settings: Settings) -> int:
     import uvicorn
 
-    from api.app import create_app
+    from api.http.ratelimit import shared_between_processes
     from api.storage import db
 
+    workers = args.workers or (1 if args.demo else settings.worker_count)
+    # Everything that must happen once happens here, before any worker starts: the SQLite schema
+    # and the demo data. The workers then only check the schema (api.app's lifespan).
     engine = db.make_engine(settings.database_url)
     if settings.is_sqlite:
-        db.upgrade(engine)
+        db.upgrade_if_behind(engine)
     base = f"http://{args.host if ':' not in args.host else f'[{args.host}]'}:{args.port}"
-    print(f"rigbench is serving at {base}")
+    print(f"rigbench is serving at {base} ({workers} worker process{'es' if workers > 1 else ''})")
     print(f"API documentation:   {base}/docs")
     if args.demo:
         from api.demo import seed_demo
@@ -39,17 +42,40 @@ def run_serve(args: argparse.Namespace, settings: Settings) -> int:
         print(f"Demo member ({demo.member}) key: {demo.member_key}")
         print(f"Demo club ({demo.club}) key: {demo.club_key}")
     engine.dispose()
+    if workers > 1 and not shared_between_processes(settings.rate_limit_storage):
+        print(f"Warning: rate limits are counted by each of the {workers} workers on its own "
+              f"(RIGBENCH_RATE_LIMIT_STORAGE={settings.rate_limit_storage}), so a key or an address may "
+              f"make up to {workers} times each limit. Share them with "
+              "RIGBENCH_RATE_LIMIT_STORAGE=redis://host:6379/0.")
     sys.stdout.flush()
     # rigbench writes its own JSON request log (api.http.request_log); uvicorn's would repeat each line.
-    uvicorn.run(create_app(settings), host=args.host, port=args.port, log_level=args.log_level,
-                access_log=not settings.request_log)
+    options = {"host": args.host, "port": args.port, "log_level": args.log_level,
+               "access_log": not settings.request_log}
+    if workers == 1:
+        from api.app import create_app
+
+        uvicorn.run(create_app(settings), **options)
+    else:
+        # Each worker is a fresh process that builds its own app from the same RIGBENCH_* settings;
+        # uvicorn's supervisor shares the listening socket and restarts a worker that dies.
+        uvicorn.run("api.app:create_app", factory=True, workers=workers, **options)
     return 0
+
+
+def _workers(text: str) -> int:
+    value = int(text)
+    if not 1 <= value <= 512:
+        raise argparse.ArgumentTypeError(f"{value} is not a number of workers between 1 and 512")
+    return value
 
 
 def add_serve(subparsers: argparse._SubParsersAction) -> None:
     parser = subparsers.add_parser("serve", help="run the HTTP API")
     parser.add_argument("--host", default="127.0.0.1", help="address to listen on (default 127.0.0.1)")
     parser.add_argument("--port", type=int, default=8000, help="port (default 8000)")
+    parser.add_argument("--workers", type=_workers, default=None,
+                        help="server processes (default RIGBENCH_WORKERS, whose 0 means one per CPU core; "
+                        "1 with --demo)")
     parser.add_argument("--demo", action="store_true", help="seed an invented demo club and print its keys")
     parser.add_argument("--log-level", default="info", choices=["critical", "error", "warning", "info", "debug"])
     parser.set_defaults(handler=run_serve)

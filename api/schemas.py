@@ -10,8 +10,9 @@ from __future__ import annotations
 from datetime import datetime
 from typing import Annotated, Any
 
-from pydantic import BaseModel, ConfigDict, Discriminator, Field, Tag, create_model, field_validator
+from pydantic import BaseModel, ConfigDict, Discriminator, Field, Tag, create_model, field_validator, model_validator
 
+from api.http.problems import FieldError
 from api.storage.models import AccountKind, KeyScope, Visibility
 from calculators.schemas import (
     Accessory,
@@ -23,7 +24,9 @@ from calculators.schemas import (
     Rig,
     Strict,
     Telescope,
+    upgrade_old_mount,
 )
+from calculators.site import Site
 
 MAX_ID = 2**63 - 1
 Id = Annotated[int, Field(ge=1, le=MAX_ID)]
@@ -72,6 +75,16 @@ class ItemMeta(BaseModel):
     version: int = Field(description="Starts at 1, grows by one on each change; the ETag carries it.")
     created_at: datetime
     updated_at: datetime
+    invalid: bool = Field(
+        default=False,
+        description="True when the stored item no longer meets the current schema (limits tightened "
+        "since it was stored, an old migration, a manual edit): its values are shown as stored, "
+        "`invalid_reasons` names each field to fix, and a PATCH or PUT that fixes them repairs it. "
+        "Comparisons skip an invalid rig and say why.",
+    )
+    invalid_reasons: list[FieldError] = Field(
+        default_factory=list, description="Why the item is invalid, one entry per field; empty when it is valid."
+    )
 
 
 class ListMeta(BaseModel):
@@ -94,9 +107,11 @@ def _optional_fields(model: type[BaseModel]) -> dict[str, Any]:
 class EquipmentSchemas:
     """The four role-named bodies of one kind of equipment, built from its calculator schema."""
 
-    def __init__(self, spec: type[BaseModel], label: str):
+    def __init__(self, spec: type[BaseModel], label: str, upgrade=None):
         self.spec = spec
         title = label.capitalize()
+        # Old values a patch may still send for one release (the spec's own validators cover the rest).
+        old = {"_old_names": model_validator(mode="before")(upgrade)} if upgrade else {}
         self.create = create_model(
             f"{title}Create", __base__=spec, visibility=(Visible, Visibility.private),
             __doc__=f"A new {label}.", __validators__={"_name_has_no_nul": field_validator("name")(refuse_nul)},
@@ -104,6 +119,7 @@ class EquipmentSchemas:
         self.update = create_model(
             f"{title}Update", __base__=Strict, **_optional_fields(self.create),
             __doc__=f"Changes to a {label} (JSON merge patch: null resets a field to its default).",
+            __validators__=old,
         )
         # A class statement's worth of namespace, so model_config applies (extra keys in a stored
         # spec, say from an older schema, are dropped rather than failing the read).
@@ -120,7 +136,8 @@ class EquipmentSchemas:
 TELESCOPE = EquipmentSchemas(Telescope, "telescope")
 CAMERA = EquipmentSchemas(Camera, "camera")
 MODIFIER = EquipmentSchemas(Modifier, "modifier")
-MOUNT = EquipmentSchemas(Mount, "mount")
+MOUNT = EquipmentSchemas(Mount, "mount", upgrade=lambda cls, data: upgrade_old_mount(data))
+SITE = EquipmentSchemas(Site, "site")
 
 
 # --- rigs -----------------------------------------------------------------------------------------
@@ -152,7 +169,8 @@ RigUpdate = create_model(
 class RigPublic(ItemMeta, RigSlots):
     model_config = ConfigDict(extra="ignore")
 
-    resolved: Rig = Field(description="The rig with every stored component filled in.")
+    resolved: Rig = Field(description="The rig with every stored component filled in (as stored, "
+                          "when `invalid`).")
 
 
 class RigList(ListMeta):
@@ -171,6 +189,9 @@ class AccountPublic(BaseModel):
     location: str
     contact_url: str
     created_at: datetime
+    default_site_id: int | None = Field(
+        default=None, description="The public site the account's club page and comparisons use by default."
+    )
 
 
 class Me(AccountPublic):
@@ -231,6 +252,10 @@ class ComparisonRequest(Strict):
     baseline: int = Field(default=0, ge=0, description="Index into rigs of the rig others are relative to.")
     params: dict[str, dict[str, Any]] = Field(
         default_factory=dict, description="Params per calculator name."
+    )
+    site: slot(Site) | None = Field(
+        default=None, description='An observing site, inline or {"id": N} of a stored one you may read: '
+        "its conditions fill every calculator param of the same meaning that `params` does not state.",
     )
 
 

@@ -73,6 +73,11 @@ class Settings(BaseSettings):
         description="Where rate-limit counters live: memory:// (this process) or redis://host:port/db "
         "(shared by every server process; needs the redis extra).",
     )
+    workers: int = Field(
+        default=0, ge=0, le=512,
+        description="Server processes `rigbench serve` starts (`--workers` overrides it); 0: one per "
+        "CPU core this process may use, the production default. `--demo` serves with 1.",
+    )
     request_log: bool = Field(
         default=True, description="Write one JSON line per request (id, method, path, status, time) to stderr."
     )
@@ -96,6 +101,15 @@ class Settings(BaseSettings):
         if not self.database_url:
             self.database_url = f"sqlite:///{(self.data_dir / 'rigbench.db').as_posix()}"
         return self
+
+    @property
+    def worker_count(self) -> int:
+        """``workers``, with 0 read as one per CPU core available to this process."""
+        if self.workers:
+            return self.workers
+        import os
+
+        return len(os.sched_getaffinity(0)) if hasattr(os, "sched_getaffinity") else os.cpu_count() or 1
 
     @property
     def is_sqlite(self) -> bool:

@@ -10,6 +10,7 @@ A calculator is a class with a few declarations and one method::
         outputs = (Output("focal_ratio", "", "Effective focal ratio N = f/D."), ...)
         sources = ("Author, Title, year, section",)
         cautions = ()                       # optional, shown with every result
+        renamed_outputs = {}                # optional: old output name -> new, still accepted
 
         def compute(self, batch: RigBatch, params: SpeedParams) -> dict[str, np.ndarray]:
             ...
@@ -22,7 +23,9 @@ that depends only on the telescope stays ``(T, 1, 1, 1)`` in a sweep.
 
 from __future__ import annotations
 
+from collections.abc import Mapping
 from dataclasses import dataclass
+from collections.abc import Mapping
 from typing import ClassVar, Literal
 
 import numpy as np
@@ -42,6 +45,9 @@ class Output:
     kind: Literal["number", "text", "boolean"] = "number"
     nullable: bool = False  # may be null (NaN) where an optional input is missing
     relative: bool = False  # depends on the baseline rig
+    # Batch columns the output cannot do without: where one is missing (NaN) for a rig, the answer
+    # says so as the reason for that rig's null (see plugins.null_reasons).
+    needs: tuple[str, ...] = ()
 
 
 class NoParams(Strict):
@@ -57,10 +63,22 @@ class Calculator:
     outputs: ClassVar[tuple[Output, ...]]
     sources: ClassVar[tuple[str, ...]]
     cautions: ClassVar[tuple[str, ...]] = ()
+    #: Outputs renamed in this release, old name -> new name. Requests that name an output (an
+    #: evaluation's constraints and objectives) may still use the old name for one release.
+    renamed_outputs: ClassVar[Mapping[str, str]] = {}
     Params: ClassVar[type[BaseModel]] = NoParams
 
     def compute(self, batch: RigBatch, params: BaseModel) -> dict[str, np.ndarray]:
         raise NotImplementedError
+
+    def null_reasons(self, batch: RigBatch, params: BaseModel) -> Mapping[str, np.ndarray]:
+        """Why outputs are null, where the calculator knows better than "an input is missing".
+
+        Returns ``{output: text array}`` broadcasting to the batch, "" where it has nothing to say
+        (the answer then falls back on the output's ``needs`` and the missing inputs). Called only
+        for a comparison in which some output is null. Default: nothing to add.
+        """
+        return {}
 
     def output_units(self, batch: RigBatch, params: BaseModel) -> dict[str, str]:
         """Units of the outputs for this batch; override when a unit depends on the input

@@ -30,12 +30,18 @@ geometry                    ``payload_arm_mm``, ``counterweight_kg``
 ==========================  =====================================================================
 
 Price columns come in pairs: ``<slot>_price`` (NaN when unpriced) and ``<slot>_currency``.
+
+Quantities that several calculators derive from the same columns (clear area, effective focal length,
+sensor size, field solid angle) are computed once per batch: a helper decorated with :func:`per_batch`
+keeps its result on the batch, read-only, so the calculators that ask later get the very same array.
 """
 
 from __future__ import annotations
 
-from collections.abc import Iterator, Mapping, Sequence
+import functools
+from collections.abc import Callable, Iterator, Mapping, Sequence
 from dataclasses import dataclass, field
+from typing import Any, TypeVar
 
 import numpy as np
 
@@ -160,16 +166,55 @@ def _along(columns: dict[str, np.ndarray], axis: int, ndim: int) -> dict[str, np
     return out
 
 
+Derived = TypeVar("Derived")
+
+
+def _read_only(value: Any) -> Any:
+    if isinstance(value, np.ndarray):
+        value.flags.writeable = False
+    elif isinstance(value, tuple):
+        for item in value:
+            _read_only(item)
+    return value
+
+
+def per_batch(helper: Callable[[RigBatch], Derived]) -> Callable[[RigBatch], Derived]:
+    """Compute ``helper(batch)`` once per batch; later calls with the same batch return that result.
+
+    For quantities several calculators derive from the same columns: on a flat batch of a million
+    rigs each one is a full array (8 MB) and arithmetic that would otherwise be repeated by every
+    calculator that needs it. The result is made read-only, so that no calculator can change it for
+    the others (an in-place operation on it raises). A mapping that is not a :class:`RigBatch`
+    (a plain dict of columns) gets the helper's result computed afresh.
+    """
+    key = f"{helper.__module__}.{helper.__qualname__}"
+
+    @functools.wraps(helper)
+    def shared(batch: RigBatch) -> Derived:
+        store = getattr(batch, "derived", None)
+        if store is None:
+            return helper(batch)
+        try:
+            return store[key]
+        except KeyError:
+            value = store[key] = _read_only(helper(batch))
+            return value
+
+    return shared
+
+
 @dataclass(frozen=True)
 class RigBatch(Mapping[str, np.ndarray]):
     """Named numpy columns that broadcast to ``shape``, plus the baseline rig's index.
 
     ``baseline`` has one index per axis of ``shape`` (a single int for a comparison batch).
+    ``derived`` holds the results of :func:`per_batch` helpers computed on this batch so far.
     """
 
     columns: Mapping[str, np.ndarray]
     baseline: tuple[int, ...]
     shape: tuple[int, ...] = field(init=False)
+    derived: dict[str, Any] = field(init=False, default_factory=dict, repr=False, compare=False)
 
     def __post_init__(self) -> None:
         shapes = {v.shape if type(v) is np.ndarray else np.shape(v) for v in self.columns.values()}

@@ -13,6 +13,7 @@ from typing import Any, Literal
 from pydantic import BaseModel, Field
 
 from calculators.schemas import Camera, Modifier, Mount, Strict, Telescope
+from calculators.site import SiteUsed
 
 #: Largest ``limit`` a request may ask for.
 MAX_LIMIT = 1000
@@ -116,4 +117,7 @@ class EvaluationResult(BaseModel):
     units: dict[str, str] = Field(description='Unit of each value key ("" when dimensionless).')
     cautions: dict[str, list[str]] = Field(
         default_factory=dict, description="Cautions of the calculators used, by calculator."
+    )
+    site: SiteUsed | None = Field(
+        default=None, description="The observing site whose conditions filled the params (null: none)."
     )

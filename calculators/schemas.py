@@ -10,10 +10,11 @@ from __future__ import annotations
 from enum import StrEnum
 from typing import Annotated
 
-from pydantic import BaseModel, ConfigDict, Field, ValidationInfo, field_validator
+from pydantic import BaseModel, BeforeValidator, ConfigDict, Field, ValidationInfo, field_validator, model_validator
 
 from calculators.units import (
     Micrometres,
+    Millimetres,
     NonNegativeKilograms,
     NonNegativeMillimetres,
     PositiveKilograms,
@@ -25,6 +26,13 @@ Throughput = Annotated[float, Field(gt=0, le=1)]
 
 
 MIN_FOCAL_RATIO = 0.5
+
+#: Largest aperture: 50 m, above the largest telescopes ever planned (about 40 m).
+MAX_APERTURE_MM = 50_000.0
+#: Longest focal length: 1 km (the longest effective focal lengths of giant telescopes' instruments
+#: are some hundreds of metres; an amateur's, a few metres). Every other length: 1 km as well
+#: (calculators.units.MAX_LENGTH_MM); every mass at most 100 t (MAX_MASS_KG).
+MAX_FOCAL_LENGTH_MM = 1_000_000.0
 
 
 def check_focal_ratio(ratio: float) -> None:
@@ -52,7 +60,7 @@ class Price(Strict):
 
 
 class Design(StrEnum):
-    """Optical designs, by their trade names."""
+    """Optical designs, by their trade names (what a telescope is used for is not a design)."""
 
     refractor = "refractor"
     newtonian = "newtonian"
@@ -62,7 +70,6 @@ class Design(StrEnum):
     dall_kirkham = "dall-kirkham"
     schmidt_newtonian = "schmidt-newtonian"
     maksutov_newtonian = "maksutov-newtonian"
-    astrograph = "astrograph"
     other = "other"
 
 
@@ -78,16 +85,40 @@ DEFAULT_THROUGHPUT: dict[Design, float] = {
     Design.dall_kirkham: 0.81,
     Design.schmidt_newtonian: 0.75,
     Design.maksutov_newtonian: 0.75,
-    Design.astrograph: 0.85,
     Design.other: 0.80,
 }
+
+# Renamed values, accepted for one release (README, "Renamed in this release"). "astrograph" names a
+# purpose, not a design: such a telescope becomes "other", keeping the 0.85 default transmission the
+# old value had when it states none, so its results do not change.
+OLD_DESIGNS = {"astrograph": Design.other}
+OLD_DESIGN_THROUGHPUT = 0.85
+
+
+def _old_design(value):
+    return OLD_DESIGNS.get(value, value) if isinstance(value, str) else value
+
+
+def upgrade_old_telescope(data):
+    """A telescope body in the previous release's words, in this release's (see ``OLD_DESIGNS``)."""
+    if isinstance(data, dict) and data.get("design") in OLD_DESIGNS:
+        data = {**data, "design": OLD_DESIGNS[data["design"]].value}
+        if data.get("throughput") is None:
+            data["throughput"] = OLD_DESIGN_THROUGHPUT
+    return data
 
 
 class Telescope(Strict):
     name: Name | None = None
-    design: Design = Design.other
-    aperture_mm: PositiveMillimetres
-    focal_length_mm: PositiveMillimetres
+    design: Annotated[Design, BeforeValidator(_old_design)] = Field(
+        default=Design.other, description="Optical design; sets default transmission, spikes, coma."
+    )
+    aperture_mm: Annotated[Millimetres, Field(gt=0, le=MAX_APERTURE_MM)] = Field(
+        description="Clear aperture (at most 50 m)."
+    )
+    focal_length_mm: Annotated[Millimetres, Field(gt=0, le=MAX_FOCAL_LENGTH_MM)] = Field(
+        description="Focal length of the bare telescope (at most 1 km)."
+    )
     obstruction_mm: NonNegativeMillimetres = Field(
         default=0.0, description="Central obstruction diameter; 0 for an unobstructed design."
     )
@@ -102,6 +133,11 @@ class Telescope(Strict):
     spider_vanes: int | None = Field(default=None, ge=0, le=16)
     mirror_thickness_mm: PositiveMillimetres | None = None
     price: Price | None = None
+
+    @model_validator(mode="before")
+    @classmethod
+    def _old_names(cls, data):
+        return upgrade_old_telescope(data)
 
     # Cross-field rules are field validators (fields validate in declaration order), so the
     # error's location names the offending field.
@@ -178,17 +214,47 @@ class MountType(StrEnum):
     german_equatorial = "german-equatorial"
     fork = "fork"
     alt_azimuth = "alt-azimuth"
-    harmonic_equatorial = "harmonic-equatorial"
     dobsonian = "dobsonian"
     other = "other"
 
 
+class Drive(StrEnum):
+    """How the motors turn the axes."""
+
+    worm = "worm"
+    strain_wave = "strain-wave"
+    belt = "belt"
+    direct = "direct"
+    other = "other"
+
+
+# Renamed values, accepted for one release (README, "Renamed in this release"): the type named after
+# a gear's trade name is a german-equatorial mount with a strain-wave drive.
+OLD_MOUNT_TYPES = {"harmonic-equatorial": (MountType.german_equatorial, Drive.strain_wave)}
+
+
+def upgrade_old_mount(data):
+    """A mount body in the previous release's words, in this release's (see ``OLD_MOUNT_TYPES``)."""
+    if isinstance(data, dict) and data.get("type") in OLD_MOUNT_TYPES:
+        kind, drive = OLD_MOUNT_TYPES[data["type"]]
+        data = {**data, "type": kind.value}
+        if data.get("drive") is None:
+            data["drive"] = drive.value
+    return data
+
+
 class Mount(Strict):
     name: Name | None = None
-    type: MountType = MountType.german_equatorial
-    capacity_kg: PositiveKilograms = Field(description="Rated instrument payload.")
+    type: MountType = Field(default=MountType.german_equatorial, description="Mount geometry.")
+    drive: Drive | None = Field(default=None, description="Gearing of the axes, when known.")
+    capacity_kg: PositiveKilograms = Field(description="Rated instrument payload (at most 100 t).")
     mass_kg: NonNegativeKilograms | None = None
     price: Price | None = None
+
+    @model_validator(mode="before")
+    @classmethod
+    def _old_names(cls, data):
+        return upgrade_old_mount(data)
 
 
 class Accessory(Strict):

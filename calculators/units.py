@@ -97,7 +97,15 @@ Millimetres = Annotated[float, _quantity("mm")]
 Micrometres = Annotated[float, _quantity("um")]
 Kilograms = Annotated[float, _quantity("kg")]
 
-PositiveMillimetres = Annotated[Millimetres, Field(gt=0)]
-NonNegativeMillimetres = Annotated[Millimetres, Field(ge=0)]
-PositiveKilograms = Annotated[Kilograms, Field(gt=0)]
-NonNegativeKilograms = Annotated[Kilograms, Field(ge=0)]
+# Physical upper bounds. An amateur's equipment is far inside them; a value beyond one is a typing
+# slip or an attack (1e308 overflows the calculators' products and squares), refused as a 422 that
+# names the field. Tighter bounds sit at the fields that have them (calculators.schemas).
+#: Longest length any field takes: 1 km (a tube, a pier, an arm; no instrument part is longer).
+MAX_LENGTH_MM = 1_000_000.0
+#: Heaviest mass any field takes: 100 t (more than any amateur or club instrument with its mount).
+MAX_MASS_KG = 100_000.0
+
+PositiveMillimetres = Annotated[Millimetres, Field(gt=0, le=MAX_LENGTH_MM)]
+NonNegativeMillimetres = Annotated[Millimetres, Field(ge=0, le=MAX_LENGTH_MM)]
+PositiveKilograms = Annotated[Kilograms, Field(gt=0, le=MAX_MASS_KG)]
+NonNegativeKilograms = Annotated[Kilograms, Field(ge=0, le=MAX_MASS_KG)]

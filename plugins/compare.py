@@ -8,6 +8,8 @@ from typing import Any
 from calculators.batch import RigBatch
 from calculators.errors import RigbenchError
 from calculators.schemas import Rig
+from calculators.site import Site, fill_params
+from plugins.null_reasons import explain
 from plugins.registry import Registry, load_registry
 from plugins.results import Comparison
 from plugins.runner import parse_params, run, to_json_values
@@ -26,8 +28,13 @@ def compare(
     *,
     registry: Registry | None = None,
     ids: Sequence[int | None] | None = None,
+    site: Site | Mapping[str, Any] | None = None,
+    site_id: int | None = None,
 ) -> Comparison:
     """Compare rigs with the named calculators (default: every loaded one).
+
+    ``site`` (an observing site) fills every calculator param of a matching name that ``params``
+    does not state (see :func:`calculators.site.fill_params`); the answer's ``site`` says what it filled.
 
     >>> from plugins import compare
     >>> rig = {"name": "8-inch", "telescope": {"aperture_mm": "8 in", "focal_length_mm": 1000},
@@ -50,21 +57,35 @@ def compare(
     for name in params:
         if name not in chosen:
             raise BadComparison(f"params: {name!r} is not among the requested calculators")
+    used = None
+    if site is not None:
+        site = site if isinstance(site, Site) else Site.model_validate(site)
+        conditions = site.conditions()
+        params, filled = fill_params(chosen, params, conditions)
+        used = {"id": site_id, "name": site.name, "values": conditions, "filled": filled}
     parsed = {name: parse_params(calc, params.get(name)) for name, calc in chosen.items()}
     batch = RigBatch.from_rigs(models, baseline=baseline)
     results = {}
     for name, calc in chosen.items():
         outcome = run(calc, batch, parsed[name])
         units = outcome.units
+        values = {out: to_json_values(v) for out, v in outcome.values.items()}
+        reasons = explain(calc, batch, parsed[name], values)
         results[name] = {
             "version": calc.version,
             "outputs": {
-                out: {"unit": units[out], "values": to_json_values(values)}
-                for out, values in outcome.values.items()
+                out: {"unit": units[out], "values": v, "null_reasons": reasons.get(out)}
+                for out, v in values.items()
             },
             "cautions": list(calc.cautions),
             "error": outcome.error,
         }
+        if outcome.row_errors:
+            results[name]["row_errors"] = [
+                {"rig": row, "reason": f"{', '.join(outputs)}: not a finite number for this rig's "
+                                       "inputs (an overflow or an undefined operation); shown as null"}
+                for row, outputs in sorted(outcome.row_errors.items())
+            ]
     ids = list(ids) if ids is not None else [None] * len(models)
     # One validation of the whole tree (in pydantic's compiled core) instead of one model per
     # output: for a few rigs, building some forty small models cost more than their arithmetic.
@@ -72,4 +93,5 @@ def compare(
         "rigs": [{"id": i, "name": m.name} for i, m in zip(ids, models)],
         "baseline": baseline,
         "results": results,
+        "site": used,
     })

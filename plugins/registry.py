@@ -24,7 +24,7 @@ from __future__ import annotations
 import copy
 import logging
 import re
-from collections.abc import Iterable
+from collections.abc import Iterable, Mapping
 from dataclasses import dataclass, field
 from importlib.metadata import EntryPoint, entry_points
 from typing import Literal
@@ -184,6 +184,17 @@ def _check_strings(calculator: Calculator, attr: str, *, required: bool) -> None
         raise ContractError(f"{attr} is empty: name where the formulas come from")
 
 
+def _check_renames(calculator: Calculator, names: set[str]) -> None:
+    renamed = getattr(calculator, "renamed_outputs", {})
+    if not isinstance(renamed, Mapping):
+        raise ContractError("renamed_outputs must be a mapping of old output name to new output name")
+    for old, new in renamed.items():
+        if old in names:
+            raise ContractError(f"renamed_outputs: old name {old!r} is still a declared output")
+        if new not in names:
+            raise ContractError(f"renamed_outputs: {old!r} is renamed to {new!r}, which is not a declared output")
+
+
 def _check_params(calculator: Calculator) -> None:
     params = getattr(calculator, "Params", None)
     if not (isinstance(params, type) and issubclass(params, BaseModel)):
@@ -204,7 +215,7 @@ def validate(calculator: object) -> None:
     ``version`` is a PEP 440 version; ``summary`` is one non-empty line; ``outputs`` is a non-empty
     tuple of :class:`~calculators.base.Output` with unique lower_snake_case names, units pint can
     read and known kinds; ``Params`` is a pydantic model whose fields all have valid defaults;
-    ``compute`` and ``output_units`` are callable; ``sources`` is non-empty and ``cautions`` a
+    ``renamed_outputs`` maps old names to declared outputs; ``compute`` and ``output_units`` are callable; ``sources`` is non-empty and ``cautions`` a
     tuple of strings.
     """
     if not isinstance(calculator, Calculator):
@@ -231,6 +242,7 @@ def validate(calculator: object) -> None:
     duplicates = sorted({n for n in names if names.count(n) > 1})
     if duplicates:
         raise ContractError(f"output name(s) {', '.join(duplicates)} declared more than once")
+    _check_renames(calculator, set(names))
     _check_params(calculator)
     for method in ("compute", "output_units"):
         if not callable(getattr(calculator, method, None)):

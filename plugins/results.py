@@ -4,12 +4,24 @@ from __future__ import annotations
 
 from pydantic import BaseModel, Field
 
+from calculators.site import SiteUsed
+
 Value = float | str | bool | None
 
 
 class OutputValues(BaseModel):
     unit: str = Field(description="Unit of every value (pint-readable; '' when dimensionless).")
     values: list[Value] = Field(description="One value per rig, in request order; null where undefined.")
+    null_reasons: list[str | None] | None = Field(
+        default=None,
+        description="Why a value is null: null when every value is defined, else one entry per rig "
+        "(as long as `values`), a sentence where the value is null and null where it is not.",
+    )
+
+
+class RowError(BaseModel):
+    rig: int = Field(description="Index of the rig in `rigs`.")
+    reason: str
 
 
 class CalculatorResult(BaseModel):
@@ -17,6 +29,11 @@ class CalculatorResult(BaseModel):
     outputs: dict[str, OutputValues]
     cautions: list[str] = Field(default_factory=list)
     error: str | None = Field(default=None, description="Why this calculator gave no result.")
+    row_errors: list[RowError] = Field(
+        default_factory=list,
+        description="Rigs whose values are null because the calculation overflowed or was undefined "
+        "for their inputs only; the other rigs' values stand.",
+    )
 
 
 class RigRef(BaseModel):
@@ -24,7 +41,22 @@ class RigRef(BaseModel):
     name: str
 
 
+class SkippedRig(BaseModel):
+    index: int = Field(description="Position of the rig in the request.")
+    id: int | None = Field(default=None, description="Stored rig id.")
+    name: str | None = None
+    reasons: list[str] = Field(description="Why it was not computed, e.g. a stored field that no longer validates.")
+
+
 class Comparison(BaseModel):
-    rigs: list[RigRef]
-    baseline: int
+    rigs: list[RigRef] = Field(description="The rigs computed, in request order (skipped ones left out).")
+    baseline: int = Field(description="Index into `rigs` of the rig relative figures refer to.")
     results: dict[str, CalculatorResult]
+    skipped: list[SkippedRig] = Field(
+        default_factory=list,
+        description="Stored rigs that could not be computed (their stored spec no longer validates), "
+        "each with the reasons; repair them with PATCH or PUT.",
+    )
+    site: SiteUsed | None = Field(
+        default=None, description="The observing site whose conditions filled the params (null: none)."
+    )

@@ -107,6 +107,9 @@ class Run:
     values: dict[str, np.ndarray] = field(default_factory=dict)
     units: dict[str, str] = field(default_factory=dict)
     error: str | None = None
+    # Flat row index -> outputs declared finite that came out NaN or infinite for that row only
+    # (an overflow on extreme inputs): those values are null, the other rows stand.
+    row_errors: dict[int, list[str]] = field(default_factory=dict)
 
 
 def set_time_budget(calculator: Calculator, seconds: float | None) -> None:
@@ -128,11 +131,14 @@ def run(calculator: Calculator, batch: RigBatch, params: BaseModel) -> Run:
     budget = getattr(calculator, _BUDGET_ATTR, None)
     try:
         if budget is None:
-            raw = calculator.compute(batch, params)
-            units = calculator.output_units(batch, params)
+            # Overflow and invalid operations give inf and NaN, checked below per row; numpy's
+            # warnings about them would only reach stderr outside the request log.
+            with np.errstate(all="ignore"):
+                raw = calculator.compute(batch, params)
+                units = calculator.output_units(batch, params)
         else:
             raw, units = _call_with_budget(calculator, batch, params, budget)
-        result.values = _checked(calculator.outputs, raw, batch.shape)
+        result.values = _checked(calculator.outputs, raw, batch.shape, result.row_errors)
         result.units = {o.name: units.get(o.name, o.unit) for o in calculator.outputs}
     except RigbenchError as exc:
         result.values, result.error = {}, str(exc)
@@ -161,8 +167,9 @@ def _call_with_budget(
 
     def work() -> None:
         try:
-            box["raw"] = calculator.compute(batch, params)
-            box["units"] = calculator.output_units(batch, params)
+            with np.errstate(all="ignore"):  # numpy's error state is per thread
+                box["raw"] = calculator.compute(batch, params)
+                box["units"] = calculator.output_units(batch, params)
         except BaseException as exc:  # reported to the caller, whatever it is (even SystemExit)
             box["error"] = exc
 
@@ -214,16 +221,18 @@ class _ReadOnlyColumns(Mapping[str, Any]):
 
 
 def _checked(
-    outputs: tuple[Output, ...], raw: Any, shape: tuple[int, ...]
+    outputs: tuple[Output, ...], raw: Any, shape: tuple[int, ...], row_errors: dict[int, list[str]]
 ) -> dict[str, np.ndarray]:
     if type(raw) is not dict and not isinstance(raw, Mapping):  # dict first: the ABC check is slower
         raise OutputContractError(
             f"compute returned a {type(raw).__name__}, not a mapping of output name to array"
         )
-    return {o.name: _checked_output(o, raw, shape) for o in outputs}
+    return {o.name: _checked_output(o, raw, shape, row_errors) for o in outputs}
 
 
-def _checked_output(output: Output, raw: Mapping[str, Any], shape: tuple[int, ...]) -> np.ndarray:
+def _checked_output(
+    output: Output, raw: Mapping[str, Any], shape: tuple[int, ...], row_errors: dict[int, list[str]]
+) -> np.ndarray:
     try:
         values = np.asarray(raw[output.name])
     except KeyError:
@@ -242,10 +251,14 @@ def _checked_output(output: Output, raw: Mapping[str, Any], shape: tuple[int, ..
         if kind not in "fiu":
             raise OutputContractError(f"output {output.name!r} is not numeric (dtype {values.dtype})")
         if kind == "f" and not output.nullable and not _all_finite(values):
-            raise OutputContractError(
-                f"output {output.name!r} has NaN or infinite values but is declared finite"
-                " (declare nullable=True if a missing input makes it undefined)"
-            )
+            finite = np.isfinite(values)
+            if not finite.any():  # every row: a broken calculator, not an extreme input
+                raise OutputContractError(
+                    f"output {output.name!r} has NaN or infinite values but is declared finite"
+                    " (declare nullable=True if a missing input makes it undefined)"
+                )
+            for row in np.flatnonzero(~finite).tolist():
+                row_errors.setdefault(row, []).append(output.name)
     elif output.kind == "boolean" and kind != "b":
         raise OutputContractError(f"output {output.name!r} is not boolean (dtype {values.dtype})")
     elif output.kind == "text" and kind not in "US":

@@ -11,7 +11,17 @@ from __future__ import annotations
 
 from hypothesis import strategies as st
 
-from calculators.schemas import Camera, Design, Modifier, ModifierKind, Mount, MountType, Rig, Telescope
+from calculators.schemas import (
+    Camera,
+    Design,
+    Drive,
+    Modifier,
+    ModifierKind,
+    Mount,
+    MountType,
+    Rig,
+    Telescope,
+)
 
 MM_PER_INCH = 25.4  # NIST SP 811 (2008), appendix B: 1 in = 2.54 cm exactly
 KG_PER_POUND = 0.45359237  # NIST SP 811 (2008), appendix B: 1 lb (avoirdupois) exactly
@@ -100,6 +110,7 @@ def camera_dicts(draw, with_mass: bool | None = None, wide: bool = False) -> dic
 @st.composite
 def mount_dicts(draw) -> dict:
     return {"type": draw(st.sampled_from([m.value for m in MountType])),
+            "drive": draw(_maybe(st.sampled_from([d.value for d in Drive]))),
             "capacity_kg": draw(_floats(3, 150)), "mass_kg": draw(_maybe(_floats(2, 100))),
             "price": draw(_maybe(prices))}
 

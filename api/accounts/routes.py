@@ -17,4 +17,5 @@ async def me(principal: Reader) -> Me:
     return Me(
         name=account.name, kind=account.kind, display_name=account.display_name, location=account.location,
         contact_url=account.contact_url, created_at=aware(account.created_at), key_scope=principal.scope,
+        default_site_id=account.default_site_id,
     )

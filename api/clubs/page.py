@@ -24,6 +24,7 @@ from api.clubs import view as club_view
 from api.http.negotiation import quality
 from api.http.problems import ApiProblem
 from api.schemas import MAX_ID
+from api.sites.conditions import OVERRIDES
 from calculators.builtin.catalogue import CREDIT
 from calculators.builtin.integration_time import SUN_CAUTION
 from calculators.builtin.target_fit import DEFAULT_TARGET
@@ -51,6 +52,16 @@ CAUTIONS = (
     SUN_CAUTION + " Look at the Sun only through a filter made for it, fitted securely over the front "
     "of the instrument, and cap or remove the finder.",
 )
+
+#: How the page names a site's values (field -> label, unit).
+SITE_FIELDS = {
+    "seeing_fwhm_arcsec": ("seeing (FWHM)", "″"),
+    "sky_brightness_mag_arcsec2": ("sky brightness", " mag/arcsec²"),
+    "night_temperature_c": ("night temperature", " °C"),
+    "relative_humidity_percent": ("humidity", " %"),
+    "latitude_deg": ("latitude", "°"),
+    "elevation_m": ("elevation", " m"),
+}
 
 # Page inputs are read as text and checked here, so a bad one gets a page that says what is wrong.
 BaselineText = Annotated[str | None, Query(description="Id of the baseline rig.")]
@@ -80,17 +91,23 @@ def _baseline(text: str | None) -> int | None:
     return int(text)
 
 
+#: The page's own query parameters; a site's fields (e.g. seeing_fwhm_arcsec) override its site.
+PAGE_QUERY = ("baseline", "target", "embed")
+
+
 def _gather(request: Request, name: str, baseline: str | None, target: str):
     state = request.app.state
     with Session(state.engine) as session:
         club = clubs.find_club(session, name)
         result = clubs.comparison(
             session, state.registry, club, baseline_id=_baseline(baseline), target=target,
-            max_rigs=state.settings.max_rigs_per_comparison,
+            max_rigs=state.settings.max_rigs_per_comparison, query=dict(request.query_params),
+            known=PAGE_QUERY,
         )
         equipment = clubs.equipment(session, club, state.settings.max_page_size)
         rigs, _total = clubs.rigs(session, club, state.settings.max_rigs_per_comparison, 0)
-    return club, result, equipment, rigs
+    # A rig whose stored spec no longer validates is left off the page (the JSON lists mark it).
+    return club, result, equipment, [rig for rig in rigs if not rig.invalid]
 
 
 def _problem_page(request: Request, problem: ApiProblem) -> HTMLResponse:
@@ -112,6 +129,7 @@ def club_page(
         return _problem_page(request, problem)
     page_url = str(request.url_for("club_page", name=club.name))
     chosen = {"baseline": result.baseline_rig_id, "target": result.target} if result.rigs else {}
+    chosen.update({k: request.query_params[k] for k in OVERRIDES if k in request.query_params})
     query = "?" + urlencode(chosen) if chosen else ""
     return _html(
         "club.html",
@@ -120,7 +138,7 @@ def club_page(
         fields=Markup(club_view.fields_picture(result) or ""), bars=Markup(club_view.bars_picture(result) or ""),
         equipment=club_view.equipment_tables(equipment), complete=equipment.complete,
         rigs=club_view.rigs_table(rigs), cautions=CAUTIONS, calculator_cautions=club_view.cautions(result),
-        credit=CREDIT, query=query, api=f"/v1/clubs/{club.name}",
+        credit=CREDIT, query=query, site_fields=SITE_FIELDS, api=f"/v1/clubs/{club.name}",
     )
 
 

@@ -102,8 +102,12 @@ def list_club_rigs(
     check_limit(limit, settings)
     items, total = clubs.rigs(session, clubs.find_club(session, name), limit, offset)
     if wants_csv(request, format):
-        return as_csv(rigs_csv(items), f"{name}-rigs.csv")
+        return as_csv(rigs_csv([rig for rig in items if not rig.invalid]), f"{name}-rigs.csv")
     return RigList(items=items, total=total, limit=limit, offset=offset)
+
+
+#: The club comparison's own query parameters (the site overrides come on top).
+COMPARISON_QUERY = ("baseline", "target", "format")
 
 
 @router.get(
@@ -111,7 +115,9 @@ def list_club_rigs(
     summary="Every calculator over a club's public rigs",
     description="The club's public rigs, oldest first, through every loaded calculator. `baseline` is "
     "the id of the rig the relative figures refer to (default: the oldest); `target` the deep-sky "
-    "object placed in each field (OpenNGC designation or common name).",
+    "object placed in each field (OpenNGC designation or common name). The club's default site fills "
+    "the calculators' site params (the answer's `site` says which values); the query parameters named "
+    "like a site's fields override them, and any other query parameter is refused (422).",
     responses={**csv_response("The comparison; as CSV, one row per rig and one column per calculator "
                               "output, the unit in each header."),
                **problems.responses(404, 422)},
@@ -125,10 +131,17 @@ def compare_club_rigs(
     baseline: Annotated[int | None, Query(ge=1, le=MAX_ID, description="Id of one of the club's public rigs.")] = None,
     target: Annotated[str, Query(min_length=1, max_length=40, description="e.g. 'M 33', 'NGC 891'.")] = DEFAULT_TARGET,
     format: Format = None,
+    seeing_fwhm_arcsec: Annotated[float | None, Query(gt=0, le=20, description="Overrides the site's seeing.")] = None,
+    sky_brightness_mag_arcsec2: Annotated[float | None, Query(ge=10, le=25, description="Overrides the site's sky brightness.")] = None,
+    night_temperature_c: Annotated[float | None, Query(ge=-40, le=50, description="Overrides the site's night temperature.")] = None,
+    relative_humidity_percent: Annotated[float | None, Query(gt=0, le=100, description="Overrides the site's humidity.")] = None,
+    latitude_deg: Annotated[float | None, Query(ge=-90, le=90, description="Overrides the site's latitude.")] = None,
+    elevation_m: Annotated[float | None, Query(ge=-500, le=9000, description="Overrides the site's elevation.")] = None,
 ):
     result = clubs.comparison(
         session, registry, clubs.find_club(session, name), baseline_id=baseline, target=target,
-        max_rigs=settings.max_rigs_per_comparison,
+        max_rigs=settings.max_rigs_per_comparison, query=dict(request.query_params),
+        known=COMPARISON_QUERY,
     )
     if wants_csv(request, format):
         return as_csv(comparison_csv(result), f"{name}-comparison.csv")

@@ -39,8 +39,8 @@ COLUMNS = (
     Column("speed", "time_factor_per_pixel", "Time per pixel", "× baseline"),
     Column("speed", "time_factor_per_arcsec2", "Time per sky area", "× baseline"),
     Column("sampling", "pixel_scale_arcsec", "Pixel scale", "″/pixel"),
-    Column("sampling", "fov_width_arcmin", "Field width"),
-    Column("sampling", "fov_height_arcmin", "Field height"),
+    Column("sampling", "field_width_arcmin", "Field width"),
+    Column("sampling", "field_height_arcmin", "Field height"),
     Column("sampling", "sampling_verdict", "Sampling"),
     Column("payload", "payload_kg", "Payload"),
     Column("payload", "capacity_fraction", "Mount load", "× rating"),
@@ -184,8 +184,8 @@ def fields_picture(comparison: ClubComparison, ident: str = "fields") -> str | N
     width = _values(comparison, "target_fit", "field_width_arcmin")
     height = _values(comparison, "target_fit", "field_height_arcmin")
     if width is None or height is None:
-        width = _values(comparison, "sampling", "fov_width_arcmin")
-        height = _values(comparison, "sampling", "fov_height_arcmin")
+        width = _values(comparison, "sampling", "field_width_arcmin")
+        height = _values(comparison, "sampling", "field_height_arcmin")
     if width is None or height is None:
         return None
     fits = _values(comparison, "target_fit", "fits_in_field") or [None] * n

@@ -1,4 +1,14 @@
-"""A comparison as CSV: one row per rig, one column per calculator output, the unit in the header."""
+"""A comparison as CSV: one row per rig, one column per calculator output, the unit in the header.
+
+Two additions keep a spreadsheet's reader complete without breaking it:
+
+* the last column, ``null_reasons``, says for each rig why its empty cells are empty
+  (``"<reason> [calculator.output, …]; …"``, empty when every value of the rig is defined);
+* after the table, a **final block**: one empty line, then one line per caution of the calculators
+  shown, ``# caution: <calculator>,<text>`` (two cells). A spreadsheet shows them below the table;
+  ``csv.reader`` reads them as short rows; pandas reads them as rows of two cells, or skips them
+  with ``read_csv(..., comment="#")`` (the line starts with ``#``).
+"""
 
 from __future__ import annotations
 
@@ -30,6 +40,34 @@ def header(calculator: str, output: str, unit: str) -> str:
     return f"{calculator}.{output} [{unit}]" if unit else f"{calculator}.{output}"
 
 
+def null_notes(comparison: Comparison) -> list[str]:
+    """Per rig, why its empty cells are empty: reasons, each with the outputs it explains."""
+    notes: list[dict[str, list[str]]] = [{} for _ in comparison.rigs]
+    for name, result in comparison.results.items():
+        for output, data in result.outputs.items():
+            for i, reason in enumerate(data.null_reasons or ()):
+                if reason is not None:
+                    notes[i].setdefault(reason, []).append(f"{name}.{output}")
+    return ["; ".join(f"{reason} [{', '.join(outputs)}]" for reason, outputs in rig.items()) for rig in notes]
+
+
+def cautions_block(writer, cautions: list[tuple[str, str]]) -> None:
+    """The final block: an empty line, then ``# caution: <calculator>`` and the text, per caution."""
+    if not cautions:
+        return
+    writer.writerow([])
+    for calculator, text in cautions:
+        writer.writerow([f"# caution: {calculator}", _cell(text)])
+
+
+def comparison_cautions(comparison: Comparison) -> list[tuple[str, str]]:
+    seen: dict[str, str] = {}
+    for name, result in comparison.results.items():
+        for text in result.cautions:
+            seen.setdefault(text, name)
+    return [(name, text) for text, name in seen.items()]
+
+
 def comparison_csv(comparison: Comparison) -> str:
     columns: list[str] = ["rig_id", "rig", "baseline"]
     values: list[list[object]] = []
@@ -41,12 +79,14 @@ def comparison_csv(comparison: Comparison) -> str:
         for output, data in result.outputs.items():
             columns.append(header(name, output, data.unit))
             values.append(data.values)
+    notes = null_notes(comparison)
     buffer = io.StringIO()
     writer = csv.writer(buffer, lineterminator="\r\n")  # RFC 4180 line breaks
-    writer.writerow(columns)
+    writer.writerow([*columns, "null_reasons"])
     for i, rig in enumerate(comparison.rigs):
-        row = [rig.id, rig.name, i == comparison.baseline, *(column[i] for column in values)]
+        row = [rig.id, rig.name, i == comparison.baseline, *(column[i] for column in values), notes[i]]
         writer.writerow([_cell(v) for v in row])
+    cautions_block(writer, comparison_cautions(comparison))
     return buffer.getvalue()
 
 

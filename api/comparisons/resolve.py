@@ -5,17 +5,20 @@ from __future__ import annotations
 
 from collections.abc import Sequence
 
+from pydantic import ValidationError
 from sqlalchemy import Engine
 from sqlmodel import Session, select
 
 from api import schemas
 from api.accounts.keys import Principal
 from api.equipment.rules import SlotRequest, body_slots, full_rig, resolve_slots, stored_rig_specs
+from api.equipment.readable import reasons
 from api.http.problems import ApiProblem, FieldError
 from api.storage.models import RigRow
 from api.storage.store import readable_by
 from calculators.schemas import Rig
 from plugins.registry import Registry
+from plugins.results import SkippedRig
 
 
 def invalid(errors: Sequence[FieldError]) -> ApiProblem:
@@ -67,8 +70,10 @@ def inline_rigs(body: schemas.ComparisonRequest) -> list[Rig]:
 
 def resolve_rigs(
     engine: Engine, principal: Principal | None, body: schemas.ComparisonRequest
-) -> tuple[list[Rig], list[int | None]]:
-    """Rigs and their stored ids, reading only what the caller may read (one query per table)."""
+) -> tuple[list[Rig], list[int | None], list[SkippedRig]]:
+    """Rigs and their stored ids, reading only what the caller may read (one query per table), and
+    the stored rigs left out because their stored spec no longer validates (422 when that leaves
+    none, or takes the baseline)."""
     with Session(engine) as session:
         wanted = {e.id for e in body.rigs if isinstance(e, schemas.Ref)}
         stored = {}
@@ -90,8 +95,29 @@ def resolve_rigs(
     ids: list[int | None] = [None] * len(body.rigs)
     for (i, entry), resolved in zip(inline, slots):
         rigs[i] = full_rig(entry, resolved, ("rigs", i))
+    skipped: list[SkippedRig] = []
     for i, entry in enumerate(body.rigs):
         if isinstance(entry, schemas.Ref):
-            rigs[i] = Rig.model_validate(stored[entry.id][1])
+            row, spec = stored[entry.id]
+            try:
+                rigs[i] = Rig.model_validate(spec)
+            except ValidationError as exc:
+                skipped.append(SkippedRig(index=i, id=entry.id, name=row.name, reasons=[
+                    f"{e.field}: {e.message}" for e in reasons(exc)]))
             ids[i] = entry.id
-    return rigs, ids
+    if skipped:
+        gone = {s.index for s in skipped}
+        if body.baseline in gone or len(gone) == len(body.rigs):
+            where = body.baseline if body.baseline in gone else skipped[0].index
+            raise invalid([FieldError(field=f"rigs.{where}.id", message=(
+                f"stored rig {ids[where]} no longer validates, so it cannot be "
+                f"{'the baseline' if where == body.baseline else 'compared'} (repair it with PATCH or PUT): "
+                + "; ".join(next(s.reasons for s in skipped if s.index == where))))])
+        rigs = [r for i, r in enumerate(rigs) if i not in gone]
+        ids = [x for i, x in enumerate(ids) if i not in gone]
+    return rigs, ids, skipped
+
+
+def baseline_after_skips(baseline: int, skipped: list[SkippedRig]) -> int:
+    """The baseline's index among the rigs computed."""
+    return baseline - sum(s.index < baseline for s in skipped)

@@ -9,11 +9,12 @@ from starlette.concurrency import run_in_threadpool
 from starlette.responses import Response
 
 from api.comparisons.csv_table import comparison_csv
-from api.comparisons.resolve import check_request, inline_rigs, needs_database, resolve_rigs
+from api.comparisons.resolve import baseline_after_skips, check_request, inline_rigs, needs_database, resolve_rigs
 from api.deps import Caller
 from api.http import problems
 from api.http.negotiation import prefers_csv
-from api.schemas import ComparisonRequest
+from api.schemas import ComparisonRequest, Ref
+from api.sites.conditions import read_site
 from plugins.compare import compare
 from plugins.results import Comparison
 
@@ -40,17 +41,22 @@ async def create_comparison(body: ComparisonRequest, request: Request, caller: C
     state = request.app.state
     registry, settings, engine = state.registry, state.settings, state.engine
     names = check_request(body, registry, settings.max_rigs_per_comparison)
+    skipped = []
     if needs_database(body):
-        rigs, ids = await run_in_threadpool(resolve_rigs, engine, caller, body)
+        rigs, ids, skipped = await run_in_threadpool(resolve_rigs, engine, caller, body)
     else:
         rigs, ids = inline_rigs(body), None
-    args = (rigs, names, body.baseline, body.params)
-    kwargs = {"registry": registry, "ids": ids}
+    site, site_id = body.site, None
+    if isinstance(site, Ref):
+        site, site_id = await run_in_threadpool(read_site, engine, caller, site)
+    args = (rigs, names, baseline_after_skips(body.baseline, skipped), body.params)
+    kwargs = {"registry": registry, "ids": ids, "site": site, "site_id": site_id}
     # A third-party calculator may wait out its time budget in a worker thread: never on the loop.
     if len(rigs) > THREADPOOL_RIGS or registry.runs_third_party(names):
         result = await run_in_threadpool(compare, *args, **kwargs)
     else:
         result = compare(*args, **kwargs)
+    result.skipped = skipped
     if prefers_csv(request.headers.get("accept")):
         return Response(
             comparison_csv(result), media_type="text/csv; charset=utf-8",

@@ -11,13 +11,22 @@ from pydantic import ValidationError
 from sqlalchemy.exc import IntegrityError
 
 from api.deps import Caller, ItemId, SessionDep, SettingsDep, Writer
+from api.equipment.readable import json_response
 from api.equipment.rules import Resource
 from api.http import problems
 from api.http.etags import IfMatch, etag, require_match
 from api.http.problems import ApiProblem
 from api.schemas import HANDLE_PATTERN, MAX_ID
 from api.storage.models import Visibility
-from api.storage.store import delete_if_version, fetch_owned, fetch_readable, insert, list_items, update_if_version
+from api.storage.store import (
+    begin_write,
+    delete_if_version,
+    fetch_owned,
+    fetch_readable,
+    insert,
+    list_items,
+    update_if_version,
+)
 
 # Without If-Match an update re-reads and retries when another one got in first; this bounds that.
 MAX_ATTEMPTS = 20
@@ -34,6 +43,7 @@ def crud_router(resource: Resource) -> APIRouter:
 
     def change(session, principal, item_id: int, if_match: str | None, new_body) -> tuple[Any, str]:
         for _ in range(MAX_ATTEMPTS):
+            begin_write(session)  # the rules below are checked and the change made in one transaction
             row, owner = fetch_owned(session, table, item_id, principal, label)
             require_match(if_match, row.version, f"{label} {item_id}")
             values = resource.prepare(session, principal, new_body(row))
@@ -68,12 +78,12 @@ def crud_router(resource: Resource) -> APIRouter:
             **problems.responses(400, 401, 403, 413, 415, 422),
         },
     )
-    def create(body: Create, principal: Writer, session: SessionDep, request: Request, response: Response):
+    def create(body: Create, principal: Writer, session: SessionDep, request: Request):
+        begin_write(session)
         values = resource.prepare(session, principal, body)
         row = insert(session, table, principal, values)
-        response.headers["Location"] = str(request.url_for(f"get_{label}", item_id=row.id))
-        response.headers["ETag"] = etag(row.version)
-        return present_one(session, row, principal.account.name)
+        headers = {"Location": str(request.url_for(f"get_{label}", item_id=row.id)), "ETag": etag(row.version)}
+        return json_response(present_one(session, row, principal.account.name), 201, headers)
 
     @router.get(
         "", response_model=Page, operation_id=f"list_{resource.path}",
@@ -97,28 +107,27 @@ def crud_router(resource: Resource) -> APIRouter:
         rows, total = list_items(
             session, table, caller, owner=owner, visibility=visibility, limit=limit, offset=offset
         )
-        return Page(items=resource.present(session, rows), total=total, limit=limit, offset=offset)
+        return json_response(Page.model_construct(
+            items=resource.present(session, rows), total=total, limit=limit, offset=offset))
 
     @router.get(
         "/{item_id}", response_model=Public, name=f"get_{label}", operation_id=f"get_{label}",
         summary=f"Read one {label}", responses={**with_etag, **problems.responses(401, 404, 422)},
     )
-    def get(item_id: ItemId, session: SessionDep, caller: Caller, response: Response):
+    def get(item_id: ItemId, session: SessionDep, caller: Caller):
         row, owner = fetch_readable(session, table, item_id, caller, label)
-        response.headers["ETag"] = etag(row.version)
-        return present_one(session, row, owner)
+        return json_response(present_one(session, row, owner), headers={"ETag": etag(row.version)})
 
     @router.put(
         "/{item_id}", response_model=Public, operation_id=f"replace_{label}",
         summary=f"Replace a {label} you own", responses={**with_etag, **write_errors},
     )
     def replace(
-        item_id: ItemId, body: Create, principal: Writer, session: SessionDep, response: Response,
+        item_id: ItemId, body: Create, principal: Writer, session: SessionDep,
         if_match: IfMatch = None,
     ):
         row, owner = change(session, principal, item_id, if_match, lambda _row: body)
-        response.headers["ETag"] = etag(row.version)
-        return present_one(session, row, owner)
+        return json_response(present_one(session, row, owner), headers={"ETag": etag(row.version)})
 
     @router.patch(
         "/{item_id}", response_model=Public, operation_id=f"patch_{label}",
@@ -127,7 +136,7 @@ def crud_router(resource: Resource) -> APIRouter:
         "Send If-Match with the ETag you read to be sure nobody changed the item in between.",
     )
     def patch(
-        item_id: ItemId, body: Update, principal: Writer, session: SessionDep, response: Response,
+        item_id: ItemId, body: Update, principal: Writer, session: SessionDep,
         if_match: IfMatch = None,
     ):
         changes = body.model_dump(mode="json", exclude_unset=True)
@@ -145,14 +154,14 @@ def crud_router(resource: Resource) -> APIRouter:
                 raise problems.from_validation_error(exc) from None
 
         row, owner = change(session, principal, item_id, if_match, merged)
-        response.headers["ETag"] = etag(row.version)
-        return present_one(session, row, owner)
+        return json_response(present_one(session, row, owner), headers={"ETag": etag(row.version)})
 
     @router.delete(
         "/{item_id}", status_code=204, operation_id=f"delete_{label}", summary=f"Delete a {label} you own",
         responses=problems.responses(401, 403, 404, 409, 412, 422),
     )
     def delete(item_id: ItemId, principal: Writer, session: SessionDep, if_match: IfMatch = None) -> Response:
+        begin_write(session)
         row, _owner = fetch_owned(session, table, item_id, principal, label)
         require_match(if_match, row.version, f"{label} {item_id}")
         resource.before_delete(session, principal, row)

@@ -9,6 +9,15 @@ Rules, enforced here and documented in README:
 * equipment that rigs of other accounts or public rigs use cannot be made private (409), and a change
   that would make a rig using it invalid (e.g. a focal ratio below the physical minimum with that
   rig's reducer) is refused (409 naming the rigs).
+
+Every rule holds under concurrent requests, from any number of server processes: each is checked
+inside the writing transaction (:func:`api.storage.store.begin_write`) on rows locked as they are
+read. A rig's write locks every equipment row it references ``FOR SHARE`` (:func:`resolve_slots`
+with ``lock=True``); an equipment change locks that row ``FOR UPDATE``, then the rigs that use it.
+So the two cannot both pass their checks on what the other is about to change: one waits for the
+other's commit and checks what it made. Locks are taken in one order (equipment by kind and id,
+then rigs by id), so two writers never wait on each other. SQLite has no row locks:
+``BEGIN IMMEDIATE`` holds its single write lock from the first read instead.
 """
 
 from __future__ import annotations
@@ -22,9 +31,10 @@ from sqlmodel import Session, select
 
 from api import schemas
 from api.accounts.keys import Principal
+from api.equipment.readable import present as present_item
 from api.http.problems import ApiProblem, FieldError, from_validation_error
 from api.storage.models import CameraRow, ModifierRow, MountRow, RigRow, StoredItem, TelescopeRow, Visibility
-from api.storage.store import aware, fetch_by_ids, readable_by
+from api.storage.store import aware, fetch_by_ids, lock_rows, readable_by
 from calculators.schemas import Rig
 
 SLOT_TABLES: dict[str, type[StoredItem]] = {
@@ -71,7 +81,7 @@ def _equipment_prepare(_session: Session, _principal: Principal, body: BaseModel
 
 def _equipment_present(public: type[BaseModel]):
     def present(_session: Session, rows: Sequence[tuple[StoredItem, str]]) -> list[BaseModel]:
-        return [public.model_validate({**row.spec, **meta(row, owner)}) for row, owner in rows]
+        return [present_item(public, {**row.spec, **meta(row, owner)}) for row, owner in rows]
 
     return present
 
@@ -79,6 +89,17 @@ def _equipment_present(public: type[BaseModel]):
 def _rigs_using(session: Session, label: str, item_id: int) -> list[RigRow]:
     column = getattr(RigRow, f"{label}_id")
     return list(session.exec(select(RigRow).where(column == item_id).order_by(RigRow.id)).all())
+
+
+def _locked_rigs_using(session: Session, label: str, row: StoredItem) -> list[RigRow]:
+    """The rigs using this item, read after locking the item (so no rig can start using it until
+    this transaction ends), each locked too (so no change of their other equipment can be checked
+    against what this one is about to change)."""
+    lock_rows(session, type(row), [row.id])
+    column = f"{label}_id"
+    users = [r.id for r in _rigs_using(session, label, row.id)]
+    locked = lock_rows(session, RigRow, users)
+    return [r for r in locked.values() if getattr(r, column) == row.id]
 
 
 def _rig_list(rigs: Sequence[RigRow], principal: Principal) -> tuple[list[int], int]:
@@ -99,7 +120,7 @@ def _used_by(label: str, item_id: int, rigs: Sequence[RigRow], principal: Princi
 
 def _equipment_hooks(label: str):
     def before_change(session: Session, principal: Principal, row: StoredItem, values: dict[str, Any]) -> None:
-        rigs = _rigs_using(session, label, row.id)
+        rigs = _locked_rigs_using(session, label, row)
         if not rigs:
             return
         if values["visibility"] == Visibility.private.value:
@@ -110,22 +131,28 @@ def _equipment_hooks(label: str):
                     "public rigs and other accounts' rigs need it to stay public",
                 )
         if values["spec"] != row.spec:
-            broken = []
-            specs = stored_rig_specs(session, rigs, override={(label, row.id): values["spec"]})
-            for rig, spec in zip(rigs, specs):
-                try:
-                    Rig.model_validate(spec)
-                except ValidationError:
-                    broken.append(rig)
+            after = stored_rig_specs(session, rigs, override={(label, row.id): values["spec"]})
+            broken = [rig for rig, spec in zip(rigs, after) if not _valid(spec)]
+            if broken:  # a rig that was invalid already does not hold up a change (a repair, say)
+                before = stored_rig_specs(session, broken)
+                broken = [rig for rig, spec in zip(broken, before) if _valid(spec)]
             if broken:
                 raise _used_by(label, row.id, broken, principal, "the change would make them invalid")
 
     def before_delete(session: Session, principal: Principal, row: StoredItem) -> None:
-        rigs = _rigs_using(session, label, row.id)
+        rigs = _locked_rigs_using(session, label, row)
         if rigs:
             raise _used_by(label, row.id, rigs, principal, "change or delete those rigs first")
 
     return before_change, before_delete
+
+
+def _valid(spec: dict) -> bool:
+    try:
+        Rig.model_validate(spec)
+    except ValidationError:
+        return False
+    return True
 
 
 def _equipment(path: str, label: str, table: type[StoredItem], bodies: schemas.EquipmentSchemas) -> Resource:
@@ -158,10 +185,14 @@ class SlotRequest:
     slot_in_path: bool = True
 
 
-def resolve_slots(session: Session, principal: Principal | None, requests: Sequence[SlotRequest]) -> list[dict]:
+def resolve_slots(
+    session: Session, principal: Principal | None, requests: Sequence[SlotRequest], *, lock: bool = False
+) -> list[dict]:
     """Replace ``{"id": N}`` slots by the stored specs the caller may read; 422 naming each bad one.
 
-    One query per kind of equipment, however many rigs are given.
+    One query per kind of equipment, however many rigs are given. With ``lock`` (a write that will
+    store references) each row read is locked ``FOR SHARE`` until the transaction ends, so its
+    visibility and spec cannot change before the write commits.
     """
     wanted: dict[str, set[int]] = {slot: set() for slot in SLOT_TABLES}
     for request in requests:
@@ -171,10 +202,11 @@ def resolve_slots(session: Session, principal: Principal | None, requests: Seque
     found: dict[str, dict[int, StoredItem]] = {}
     for slot, ids in wanted.items():
         table = SLOT_TABLES[slot]
-        found[slot] = {} if not ids else {
-            row.id: row
-            for row in session.exec(select(table).where(table.id.in_(ids), readable_by(table, principal))).all()
-        }
+        statement = select(table).where(table.id.in_(sorted(ids)), readable_by(table, principal))
+        if lock:
+            statement = (statement.order_by(table.id).with_for_update(read=True)
+                         .execution_options(populate_existing=True))
+        found[slot] = {} if not ids else {row.id: row for row in session.exec(statement).all()}
     errors: list[FieldError] = []
     resolved = []
     for request in requests:
@@ -249,7 +281,7 @@ def _is_ref(value: Any) -> bool:
 
 def _rig_prepare(session: Session, principal: Principal, body: BaseModel) -> dict[str, Any]:
     public = body.visibility == Visibility.public
-    [slots] = resolve_slots(session, principal, [SlotRequest(body_slots(body), public_only=public)])
+    [slots] = resolve_slots(session, principal, [SlotRequest(body_slots(body), public_only=public)], lock=True)
     full_rig(body, slots)
     spec = body.model_dump(mode="json", exclude={"visibility"})
     refs = {
@@ -262,7 +294,7 @@ def _rig_prepare(session: Session, principal: Principal, body: BaseModel) -> dic
 def _rig_present(session: Session, rows: Sequence[tuple[StoredItem, str]]) -> list[BaseModel]:
     specs = stored_rig_specs(session, [row for row, _ in rows])
     return [
-        schemas.RigPublic.model_validate({**row.spec, **meta(row, owner), "resolved": spec})
+        present_item(schemas.RigPublic, {**row.spec, **meta(row, owner), "resolved": spec})
         for (row, owner), spec in zip(rows, specs)
     ]
 

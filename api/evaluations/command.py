@@ -21,6 +21,7 @@ from collections.abc import Mapping, Sequence
 from pathlib import Path
 from typing import Any, TextIO
 
+from api.evaluations import report_file
 from api.settings import Settings
 
 KINDS = ("telescope", "camera", "modifier", "mount")
@@ -50,6 +51,7 @@ def add_evaluate(subparsers: argparse._SubParsersAction) -> None:
                         help="computing here: most combinations held in memory at once (default "
                         "about a million, some hundreds of MB); smaller bounds memory")
     parser.add_argument("--quiet", action="store_true", help="no progress bar")
+    report_file.add_report_option(parser)
     parser.set_defaults(handler=run_evaluate)
 
 
@@ -66,6 +68,12 @@ def run_evaluate(args: argparse.Namespace, settings: Settings) -> int:
     except _Unavailable as exc:
         print(f"error: {exc}", file=sys.stderr)
         return 1
+    if args.report:
+        try:
+            report_file.write_report(args, body, answer, settings)
+        except report_file.ReportFailed as exc:
+            print(f"error: {exc}", file=sys.stderr)
+            return 2
     if args.json:
         json.dump(answer, sys.stdout, indent=2, ensure_ascii=False)
         sys.stdout.write("\n")
@@ -120,6 +128,7 @@ def _local(body: dict[str, Any], settings: Settings, chunk_rows: int | None, *,
 
     from api.evaluations.request import MAX_FRONT_ROWS
     from api.http.problems import field_path
+    from api.tuning import keep_freed_memory
     from calculators.evaluation_schemas import InlineEvaluationRequest
     from calculators.sweep import DEFAULT_CHUNK_ROWS, EvaluationError, evaluate_spec
     from plugins.registry import load_registry
@@ -129,6 +138,7 @@ def _local(body: dict[str, Any], settings: Settings, chunk_rows: int | None, *,
     if stored:
         raise Refused(f"{', '.join(stored[:5])}: stored equipment ({{\"id\": N}}) needs a server; "
                       "give --url (and --key for private items), or give the component inline")
+    keep_freed_memory()  # as a server process does: large numpy temporaries reuse freed blocks
     try:
         spec = InlineEvaluationRequest.model_validate(body)
     except ValidationError as exc:

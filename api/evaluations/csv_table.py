@@ -4,6 +4,8 @@ Columns: ``set`` (front, top or baseline), ``rank`` (1-based within its set), th
 the request's lists, the four stored ids (empty when inline or none), one column per constrained or
 objective output with its unit in the header (as a comparison's CSV writes them), and ``score``.
 Every cell is a number, a fixed word or empty, so no cell can be read as a spreadsheet formula.
+After the table comes the final block of the calculators' cautions, as in a comparison's CSV
+(:func:`api.comparisons.csv_table.cautions_block`).
 """
 
 from __future__ import annotations
@@ -11,7 +13,7 @@ from __future__ import annotations
 import csv
 import io
 
-from api.comparisons.csv_table import header
+from api.comparisons.csv_table import cautions_block, header
 from calculators.batch import AXES
 from calculators.evaluation_schemas import EvaluationResult, EvaluationRow
 
@@ -43,4 +45,9 @@ def evaluation_csv(result: EvaluationResult) -> str:
     write("front", result.front)
     write("top", result.top)
     write("baseline", [result.baseline])
+    seen: dict[str, str] = {}
+    for name, texts in result.cautions.items():
+        for text in texts:
+            seen.setdefault(text, name)
+    cautions_block(writer, [(name, text) for text, name in seen.items()])
     return buffer.getvalue()

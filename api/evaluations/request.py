@@ -22,6 +22,7 @@ from api.schemas import Ref, slot
 from calculators.batch import AXES
 from calculators.evaluation_schemas import EvaluationSpec
 from calculators.schemas import Camera, Modifier, Mount, Telescope
+from calculators.site import Site, SiteUsed, fill_params
 from calculators.sweep import EvaluationError, TooManyCombinations
 
 #: The request's list of each kind of component, in the engine's axis order.
@@ -55,6 +56,22 @@ class EvaluationRequest(EvaluationSpec):
         default_factory=lambda: [None], min_length=1,
         description='Inline mounts, {"id": N} of stored ones, or null for "no mount"; default: none.',
     )
+    site: slot(Site) | None = Field(
+        default=None, description='An observing site, inline or {"id": N}: its conditions fill the params '
+        "of the same meaning of every calculator used that `params` does not state.",
+    )
+
+
+def with_site(body: EvaluationRequest, site: Site | None, site_id: int | None, calculators) -> tuple[EvaluationRequest, SiteUsed | None]:
+    """The request with the site's conditions in the params of the calculators it uses."""
+    if site is None:
+        return body, None
+    used = {key.split(".", 1)[0] for key in (*body.constraints, *body.objectives)}
+    chosen = {name: calc for name, calc in calculators.items() if name in used}
+    conditions = site.conditions()
+    params, filled = fill_params(chosen, body.params, conditions)
+    return body.model_copy(update={"params": params}), SiteUsed(
+        id=site_id, name=site.name, values=conditions, filled=filled)
 
 
 def sizes(body: EvaluationRequest) -> tuple[int, ...]:

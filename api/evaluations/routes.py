@@ -20,7 +20,10 @@ from api.evaluations.request import (
     needs_database,
     resolve_components,
     sizes,
+    with_site,
 )
+from api.schemas import Ref
+from api.sites.conditions import read_site
 from api.http import problems
 from api.http.negotiation import prefers_csv
 from calculators.evaluation_schemas import EvaluationResult
@@ -56,6 +59,10 @@ async def create_evaluation(body: EvaluationRequest, request: Request, caller: C
         components, ids = await run_in_threadpool(resolve_components, state.engine, caller, body)
     else:
         components, ids = inline_components(body), None
+    site, site_id = body.site, None
+    if isinstance(site, Ref):
+        site, site_id = await run_in_threadpool(read_site, state.engine, caller, site)
+    body, used = with_site(body, site, site_id, state.registry.calculators)
     try:
         result = await run_in_threadpool(
             evaluate_spec, *components, body,
@@ -64,6 +71,8 @@ async def create_evaluation(body: EvaluationRequest, request: Request, caller: C
         )
     except EvaluationError as exc:
         raise as_problem(exc, sizes(body)) from None
+    if used is not None:
+        result.site = used
     if prefers_csv(request.headers.get("accept")):
         return Response(
             evaluation_csv(result), media_type="text/csv; charset=utf-8",

@@ -120,6 +120,11 @@ class RateLimits:
             raise too_many(max(refused), f"too many changes from {which}")
 
 
+def shared_between_processes(storage_uri: str) -> bool:
+    """Whether counters in this store are seen by every server process (memory:// is per process)."""
+    return not storage_uri.strip().lower().startswith(("memory://", "async+memory://"))
+
+
 def too_many(wait_s: float, reason: str) -> ApiProblem:
     seconds = math.ceil(wait_s)
     return ApiProblem(

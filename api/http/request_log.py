@@ -37,6 +37,7 @@ class JsonLines(logging.Formatter):
             "level": record.levelname.lower(),
             "logger": record.name,
             "message": record.getMessage(),
+            "pid": record.process,  # which worker of `rigbench serve --workers N` wrote it
         }
         fields = getattr(record, "fields", None)
         if fields:

@@ -3,6 +3,11 @@
 SQLite runs in WAL mode with a busy timeout so readers never block the writer and concurrent writers
 wait instead of failing; foreign keys are switched on (SQLite leaves them off by default) so the
 database itself refuses to delete equipment a rig still uses.
+
+Transactions on SQLite are begun by us, not by the driver (which would begin one only before the
+first write, leaving the reads before it outside): every transaction starts with ``BEGIN``, and a
+writing request's with ``BEGIN IMMEDIATE`` (:func:`api.storage.store.begin_write`), which takes the
+database's write lock before the first read, so what a rule checks cannot change before the write.
 """
 
 from __future__ import annotations
@@ -28,7 +33,17 @@ def make_engine(database_url: str) -> Engine:
         url, connect_args={"check_same_thread": False, "timeout": SQLITE_BUSY_TIMEOUT_MS / 1000}
     )
     event.listen(engine, "connect", _sqlite_pragmas)
+    event.listen(engine, "begin", _sqlite_begin)
     return engine
+
+
+#: Execution option of a connection whose transactions must begin with the write lock taken.
+BEGIN_IMMEDIATE = "rigbench_begin_immediate"
+
+
+def _sqlite_begin(connection) -> None:
+    immediate = connection.get_execution_options().get(BEGIN_IMMEDIATE)
+    connection.exec_driver_sql("BEGIN IMMEDIATE" if immediate else "BEGIN")
 
 
 def _sqlite_pragmas(dbapi_connection, _record) -> None:
@@ -39,6 +54,8 @@ def _sqlite_pragmas(dbapi_connection, _record) -> None:
     # FULL: a commit that was answered with 2xx survives a crash of the process or the machine.
     cursor.execute("PRAGMA synchronous=FULL")
     cursor.close()
+    # The driver's own transaction handling off: _sqlite_begin emits BEGIN (see the module doc).
+    dbapi_connection.isolation_level = None
 
 
 def alembic_config(engine: Engine | None = None, database_url: str | None = None) -> Config:
@@ -54,6 +71,18 @@ def alembic_config(engine: Engine | None = None, database_url: str | None = None
 def upgrade(engine: Engine, revision: str = "head") -> None:
     """Apply migrations up to ``revision`` on ``engine``'s database."""
     command.upgrade(alembic_config(engine), revision)
+
+
+def upgrade_if_behind(engine: Engine) -> bool:
+    """Apply migrations only when the database is not at the code's head revision; True if it ran.
+
+    Checking first keeps the start of every worker of ``rigbench serve --workers N`` to a read: the
+    command migrates once before it starts them, so none of them races another to migrate.
+    """
+    if current_revision(engine) == head_revision():
+        return False
+    upgrade(engine)
+    return True
 
 
 def current_revision(engine: Engine) -> str | None:

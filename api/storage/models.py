@@ -55,6 +55,12 @@ class Account(SQLModel, table=True):
     location: str = Field(default="", sa_column=Column(String(200), nullable=False))
     contact_url: str = Field(default="", sa_column=Column(String(500), nullable=False))
     created_at: datetime = _timestamp()
+    # The site a club's page and comparisons use by default (SET NULL: deleting the site clears it).
+    default_site_id: int | None = Field(
+        default=None,
+        sa_column=Column(ID, ForeignKey("sites.id", ondelete="SET NULL", use_alter=True,
+                                        name="fk_accounts_default_site_id_sites"), index=True),
+    )
 
 
 class ApiKey(SQLModel, table=True):
@@ -102,6 +108,12 @@ class MountRow(StoredItem, table=True):
     __tablename__ = "mounts"
 
 
+class SiteRow(StoredItem, table=True):
+    """An observing site (its conditions in ``spec``, see calculators.site.Site)."""
+
+    __tablename__ = "sites"
+
+
 def _reference(table: str) -> Any:
     # RESTRICT: deleting equipment a rig uses must fail rather than lose part of the rig.
     return Field(
@@ -117,3 +129,15 @@ class RigRow(StoredItem, table=True):
     camera_id: int | None = _reference("cameras")
     modifier_id: int | None = _reference("modifiers")
     mount_id: int | None = _reference("mounts")
+
+
+class SavedEvaluationRow(StoredItem, table=True):
+    """A purchase evaluation kept with its answer (api/evaluations/saved.py).
+
+    ``spec`` holds the request as sent, the components it was computed from (stored ones copied at
+    saving) and which entries were stored ids; ``result`` the answer as it was then.
+    """
+
+    __tablename__ = "saved_evaluations"
+
+    result: dict = Field(sa_type=JSON, nullable=False)

@@ -17,7 +17,36 @@ from sqlmodel import Session, select
 
 from api.accounts.keys import Principal
 from api.http.problems import ApiProblem
+from api.storage.db import BEGIN_IMMEDIATE
 from api.storage.models import Account, StoredItem, Visibility, utcnow
+
+
+def begin_write(session: Session) -> None:
+    """Start the writing transaction in which a rule is checked and the change is made.
+
+    On SQLite this is ``BEGIN IMMEDIATE``: the database's one write lock is taken before the first
+    read, so no other writer can change what the rule reads before this transaction commits. On
+    PostgreSQL it is an ordinary transaction; the rows a rule reads are locked as they are read
+    (:func:`lock_rows`, and ``lock=True`` when resolving a rig's references).
+    """
+    if session.in_transaction():
+        session.commit()
+    session.connection(execution_options={BEGIN_IMMEDIATE: True})
+
+
+def lock_rows(
+    session: Session, table: type[StoredItem], ids: Sequence[int], *, share: bool = False
+) -> dict[int, StoredItem]:
+    """The rows with these ids, locked until the transaction ends (``SELECT … FOR UPDATE``, or
+    ``FOR SHARE`` with ``share``), read fresh. On SQLite, which has no row locks, :func:`begin_write`
+    already holds the whole database's write lock and this is a plain read."""
+    if not ids:
+        return {}
+    statement = (
+        select(table).where(table.id.in_(sorted(set(ids)))).order_by(table.id)
+        .with_for_update(read=share).execution_options(populate_existing=True)
+    )
+    return {row.id: row for row in session.exec(statement).all()}
 
 
 def aware(moment: datetime) -> datetime:

@@ -33,7 +33,7 @@ from pydantic import Field, model_validator
 from calculators.base import Calculator, Output
 from calculators.batch import PRICE_SLOTS, RigBatch
 from calculators.builtin.etendue import field_solid_angle_deg2
-from calculators.builtin.light_grasp import clear_area_mm2
+from calculators.builtin.light_grasp import batch_clear_area_mm2
 from calculators.errors import CalculationError
 from calculators.schemas import Strict
 
@@ -173,7 +173,7 @@ class Cost(Calculator):
 
     def compute(self, batch: RigBatch, params: CostParams) -> dict[str, np.ndarray]:
         total = total_price(batch, params)
-        area_cm2 = clear_area_mm2(batch["aperture_mm"], batch["obstruction_mm"]) * 1e-2
+        area_cm2 = batch_clear_area_mm2(batch) * 1e-2
         per_cm2 = total / area_cm2
         return {
             "total_price": total,

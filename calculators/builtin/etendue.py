@@ -26,8 +26,8 @@ from __future__ import annotations
 import numpy as np
 
 from calculators.base import Calculator, NoParams, Output
-from calculators.batch import RigBatch
-from calculators.builtin.light_grasp import clear_area_mm2
+from calculators.batch import RigBatch, per_batch
+from calculators.builtin.light_grasp import batch_clear_area_mm2
 from calculators.builtin.sampling import pixel_scale_arcsec, sensor_size_mm
 from calculators.builtin.speed import effective_focal_length_mm
 
@@ -48,6 +48,7 @@ def rectangle_solid_angle_sr(width, height, distance) -> np.ndarray:
     return 4 * np.arcsin(a * b / np.sqrt((1 + a * a) * (1 + b * b)))
 
 
+@per_batch
 def field_solid_angle_deg2(batch: RigBatch) -> np.ndarray:
     """Solid angle of the sky that the whole sensor covers, in deg²."""
     width_mm, height_mm = sensor_size_mm(batch)
@@ -56,7 +57,7 @@ def field_solid_angle_deg2(batch: RigBatch) -> np.ndarray:
 
 def etendue_m2_deg2(batch: RigBatch) -> np.ndarray:
     """Clear area (m²) × field solid angle (deg²)."""
-    area_m2 = clear_area_mm2(batch["aperture_mm"], batch["obstruction_mm"]) * 1e-6
+    area_m2 = batch_clear_area_mm2(batch) * 1e-6
     return area_m2 * field_solid_angle_deg2(batch)
 
 
@@ -91,10 +92,9 @@ class Etendue(Calculator):
     )
 
     def compute(self, batch: RigBatch, params: NoParams) -> dict[str, np.ndarray]:
-        area_m2 = clear_area_mm2(batch["aperture_mm"], batch["obstruction_mm"]) * 1e-6
+        area_m2 = batch_clear_area_mm2(batch) * 1e-6
         focal_mm = effective_focal_length_mm(batch)
-        width_mm, height_mm = sensor_size_mm(batch)
-        field = DEG2_PER_SR * rectangle_solid_angle_sr(width_mm, height_mm, focal_mm)
+        field = field_solid_angle_deg2(batch)  # once per batch: the cost calculator needs it too
         etendue = area_m2 * field
         return {
             "etendue_m2_deg2": etendue,

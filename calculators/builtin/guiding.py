@@ -1,10 +1,10 @@
-"""Guiding tolerance: the total RMS guiding error a rig can live with, and the guide camera scale to see it.
+"""Guiding tolerance: the total RMS guiding error a rig can live with, and the guide camera pixel scale to see it.
 
 Two criteria, each a common-practice rule (no single published source), and the looser of the two
 is what the rig tolerates — a guiding error only shows once it is large against both the pixel and
 the star's seeing blur:
 
-* **image scale**: total RMS error within a fraction ``k`` of the imaging pixel scale,
+* **pixel scale**: total RMS error within a fraction ``k`` of the imaging pixel scale,
   ``σ_px = k · s`` with ``k = 0.5`` by default (common practice) and ``s = 206.265 · p[µm] / f[mm]``;
 * **seeing**: the error may widen a star's FWHM by at most a fraction ``g`` (default 10 %). A guiding
   error with RMS ``σ_a`` on each axis blurs like a gaussian of FWHM ``2√(2 ln 2)·σ_a = 2.3548·σ_a``
@@ -16,7 +16,7 @@ Tolerated total RMS ``σ_tol = max(σ_px, σ_seeing)``.
 
 **Guide camera**: a guider measures a star's centroid to a fraction ``c`` of its own pixel (default
 0.2 px, a conservative common-practice figure; 0.1 px is often quoted for bright, well-sampled guide
-stars). To measure errors as small as ``σ_tol`` the guide image scale must not exceed ``σ_tol / c``;
+stars). To measure errors as small as ``σ_tol`` the guide pixel scale must not exceed ``σ_tol / c``;
 with guide pixels of ``p_g`` µm that needs a guide focal length of at least
 ``206.265 · p_g / (σ_tol / c)`` mm.
 
@@ -66,23 +66,30 @@ def seeing_limited_rms_arcsec(seeing_fwhm_arcsec, growth):
 
 class Guiding(Calculator):
     name = "guiding"
-    version = "1.0.0"
-    summary = "Total RMS guiding error the rig tolerates, and the guide camera scale needed to measure it."
+    version = "1.1.0"
+    summary = "Total RMS guiding error the rig tolerates, and the guide camera pixel scale needed to measure it."
     Params = GuidingParams
     outputs = (
-        Output("image_scale_arcsec", "arcsec", "Imaging pixel scale 206.265·p/f (per pixel)."),
+        Output("pixel_scale_arcsec", "arcsec", "Imaging pixel scale 206.265·p/f (per pixel)."),
         Output("pixel_rule_rms_arcsec", "arcsec", "Total RMS within the pixel fraction of the scale."),
         Output("seeing_rule_rms_arcsec", "arcsec",
                "Total RMS that widens the seeing FWHM by the stated fraction."),
         Output("tolerated_rms_arcsec", "arcsec", "The looser of the two rules."),
-        Output("guide_scale_max_arcsec", "arcsec", "Largest guide image scale (per guide pixel) that "
+        Output("max_guide_pixel_scale_arcsec", "arcsec", "Largest guide pixel scale (per guide pixel) that "
                "still resolves the tolerated error."),
-        Output("guide_focal_length_min_mm", "mm", "Shortest guide focal length for the guide pixel "
+        Output("min_guide_focal_length_mm", "mm", "Shortest guide focal length for the guide pixel "
                "size param."),
-        Output("ruled_by", "", "'image scale' or 'seeing': which rule sets the tolerance.", kind="text"),
+        Output("limited_by", "", "'pixel scale' or 'seeing': which rule sets the tolerance.", kind="text"),
     )
+    # Renamed in 1.1.0; the old names are still accepted in evaluations for one release.
+    renamed_outputs = {
+        "image_scale_arcsec": "pixel_scale_arcsec",
+        "guide_scale_max_arcsec": "max_guide_pixel_scale_arcsec",
+        "guide_focal_length_min_mm": "min_guide_focal_length_mm",
+        "ruled_by": "limited_by",
+    }
     sources = (
-        "Total RMS within half the image scale: common practice.",
+        "Total RMS within half the pixel scale: common practice.",
         "Seeing rule: gaussian FWHM = 2√(2 ln 2)·σ, blurs adding in quadrature (convolution of "
         "gaussians); the tolerated 10 % widening is common practice.",
         "Centroiding to a fraction of a guide pixel (0.1-0.2 px): common practice.",
@@ -99,11 +106,11 @@ class Guiding(Calculator):
         tolerated = np.maximum(by_pixel, by_seeing)
         guide_scale = tolerated / params.centroid_fraction_px
         return {
-            "image_scale_arcsec": scale,
+            "pixel_scale_arcsec": scale,
             "pixel_rule_rms_arcsec": by_pixel,
             "seeing_rule_rms_arcsec": np.broadcast_to(by_seeing, np.shape(by_pixel)),
             "tolerated_rms_arcsec": tolerated,
-            "guide_scale_max_arcsec": guide_scale,
-            "guide_focal_length_min_mm": ARCSEC_PER_RAD * params.guide_pixel_size_um * 1e-3 / guide_scale,
-            "ruled_by": np.where(by_pixel >= by_seeing, "image scale", "seeing"),
+            "max_guide_pixel_scale_arcsec": guide_scale,
+            "min_guide_focal_length_mm": ARCSEC_PER_RAD * params.guide_pixel_size_um * 1e-3 / guide_scale,
+            "limited_by": np.where(by_pixel >= by_seeing, "pixel scale", "seeing"),
         }

@@ -18,7 +18,7 @@ import numpy as np
 from pydantic import Field
 
 from calculators.base import Calculator, Output
-from calculators.batch import RigBatch
+from calculators.batch import RigBatch, per_batch
 from calculators.schemas import Strict
 
 
@@ -34,28 +34,39 @@ def clear_area_mm2(aperture_mm, obstruction_mm):
     return np.pi / 4 * (np.square(aperture_mm) - np.square(obstruction_mm))
 
 
+@per_batch
+def batch_clear_area_mm2(batch: RigBatch) -> np.ndarray:
+    """:func:`clear_area_mm2` of the batch's telescopes, computed once per batch."""
+    return clear_area_mm2(batch["aperture_mm"], batch["obstruction_mm"])
+
+
 class LightGrasp(Calculator):
     name = "light_grasp"
-    version = "1.0.0"
+    version = "1.1.0"
     summary = "Clear collecting area, its ratio to the baseline, gain over the eye, limiting magnitude."
     Params = LightGraspParams
     outputs = (
         Output("clear_area_mm2", "mm^2", "Aperture area net of the central obstruction."),
         Output("area_ratio", "", "Clear area relative to the baseline rig.", relative=True),
-        Output("eye_gain", "", "Light gathered relative to a dark-adapted eye's pupil."),
-        Output("limiting_magnitude", "mag", "Faintest star visible by eye (rule of thumb)."),
+        Output("light_gain_over_eye", "", "Light gathered relative to a dark-adapted eye's pupil."),
+        Output("visual_limiting_magnitude", "mag", "Faintest star visible by eye (rule of thumb)."),
     )
+    # Renamed in 1.1.0; the old names are still accepted in evaluations for one release.
+    renamed_outputs = {
+        "limiting_magnitude": "visual_limiting_magnitude",
+        "eye_gain": "light_gain_over_eye",
+    }
     sources = (
         "Area of an annulus π/4·(D² − d²) (plane geometry).",
         "Limiting magnitude 2.7 + 5·log10(D[mm]): common practice (Sinnott 1973 as commonly quoted).",
     )
 
     def compute(self, batch: RigBatch, params: LightGraspParams) -> dict[str, np.ndarray]:
-        area = clear_area_mm2(batch["aperture_mm"], batch["obstruction_mm"])
+        area = batch_clear_area_mm2(batch)
         return {
             "clear_area_mm2": area,
             "area_ratio": batch.relative(area),
-            "eye_gain": area / (np.pi / 4 * params.eye_pupil_mm**2),
-            "limiting_magnitude": params.limiting_magnitude_constant
+            "light_gain_over_eye": area / (np.pi / 4 * params.eye_pupil_mm**2),
+            "visual_limiting_magnitude": params.limiting_magnitude_constant
             + 5 * np.log10(batch["aperture_mm"]),
         }

@@ -12,8 +12,8 @@ through the tube's opening is neglected.
 
 * Lumped capacitance (Incropera §5.2), valid while the Biot number ``Bi = h·L/k < 0.1``, with
   ``L = t/2`` the half thickness: ``τ = ρ·c·L / h = ρ·c·t / (2h)`` — the time for the mirror's excess
-  temperature to fall by a factor e. This is ``time_constant_min`` (still air) and
-  ``time_constant_fan_min``.
+  temperature to fall by a factor e. This is ``time_constant_minutes`` (still air) and
+  ``time_constant_fan_minutes``.
 * Settling time, for the mirror's mid-plane (its warmest layer) to come from ``ΔT₀`` to within
   ``ΔT_tol`` of the air: the one-term solution of the plane wall with convection (Incropera §5.5.2),
   ``θ/θ₀ = C₁·exp(−ζ₁²·Fo)`` with ``ζ₁·tan ζ₁ = Bi``, ``C₁ = 4 sin ζ₁ / (2ζ₁ + sin 2ζ₁)`` and
@@ -123,20 +123,20 @@ def cooling(thickness_mm, h, rho, c, k, initial_k, tolerance_k, fall_k_per_h) ->
         settle_s = np.where(ratio > 1.0, slowest_mode_s * np.log(np.maximum(ratio, 1.0)), 0.0)
     settle_s = np.where(np.isnan(half), np.nan, settle_s)
     lag_k = fall_k_per_h / 3600.0 * tau_s * (1.0 + biot / 2.0)
-    return {"tau_min": tau_s / 60.0, "biot": biot, "settle_min": settle_s / 60.0, "lag_k": lag_k}
+    return {"tau_minutes": tau_s / 60.0, "biot": biot, "settle_minutes": settle_s / 60.0, "lag_k": lag_k}
 
 
 class MirrorCooldown(Calculator):
     name = "mirror_cooldown"
-    version = "1.0.0"
+    version = "1.1.0"
     summary = "Primary mirror's thermal time constant, settling time and lag behind cooling air, with and without fans."
     Params = MirrorCooldownParams
     outputs = (
-        Output("time_constant_min", "min", "Lumped time constant ρct/(2h) in still air.", nullable=True),
-        Output("time_constant_fan_min", "min", "Lumped time constant with fans.", nullable=True),
-        Output("settle_time_min", "min", "Time for the mirror's mid-plane to come within the "
+        Output("time_constant_minutes", "min", "Lumped time constant ρct/(2h) in still air.", nullable=True),
+        Output("time_constant_fan_minutes", "min", "Lumped time constant with fans.", nullable=True),
+        Output("settle_time_minutes", "min", "Time for the mirror's mid-plane to come within the "
                "tolerance of the air, still air.", nullable=True),
-        Output("settle_time_fan_min", "min", "The same with fans.", nullable=True),
+        Output("settle_time_fan_minutes", "min", "The same with fans.", nullable=True),
         Output("lag_k", "K", "Steady lag of the mid-plane behind air cooling at the given rate, still "
                "air.", nullable=True),
         Output("lag_fan_k", "K", "The same with fans.", nullable=True),
@@ -145,6 +145,13 @@ class MirrorCooldown(Calculator):
         Output("model_note", "", "'lumped model holds', 'fans: Bi ≥ 0.1, lumped time constant is "
                "optimistic', 'Bi ≥ 0.1 …' or 'unknown (mirror thickness not stated)'.", kind="text"),
     )
+    # Renamed in 1.1.0; the old names are still accepted in evaluations for one release.
+    renamed_outputs = {
+        "time_constant_min": "time_constant_minutes",
+        "time_constant_fan_min": "time_constant_fan_minutes",
+        "settle_time_min": "settle_time_minutes",
+        "settle_time_fan_min": "settle_time_fan_minutes",
+    }
     sources = (
         "Incropera, F. P., DeWitt, D. P., Bergman, T. L. & Lavine, A. S., Fundamentals of Heat and Mass "
         "Transfer, 6th ed., Wiley 2007: §5.2 lumped capacitance, §5.5 plane wall one-term solution, "
@@ -174,10 +181,10 @@ class MirrorCooldown(Calculator):
                                   "lumped model holds")),
             )
         return {
-            "time_constant_min": still["tau_min"],
-            "time_constant_fan_min": fan["tau_min"],
-            "settle_time_min": still["settle_min"],
-            "settle_time_fan_min": fan["settle_min"],
+            "time_constant_minutes": still["tau_minutes"],
+            "time_constant_fan_minutes": fan["tau_minutes"],
+            "settle_time_minutes": still["settle_minutes"],
+            "settle_time_fan_minutes": fan["settle_minutes"],
             "lag_k": still["lag_k"],
             "lag_fan_k": fan["lag_k"],
             "biot_number": still["biot"],

@@ -3,7 +3,7 @@
 Formulas (units in the names; f is the effective focal length after the modifier, in mm):
 
 * ``pixel_scale_arcsec = 206.265 · p[µm] / f[mm]`` (p/f in radians as arcseconds, 648 000/π per rad);
-* ``fov_width_arcmin = 2·atan(w / 2f)``, likewise height and diagonal (exact, not small-angle),
+* ``field_width_arcmin = 2·atan(w / 2f)``, likewise height and diagonal (exact, not small-angle),
   w = width_px · p the sensor width in mm;
 * ``pixels_per_fwhm = seeing FWHM / pixel scale``, for the ``seeing_fwhm_arcsec`` param;
 * ``sampling_verdict``: "under-sampled" below ``min_pixels_per_fwhm`` (default 2), "over-sampled" above
@@ -12,6 +12,11 @@ Formulas (units in the names; f is the effective focal length after the modifier
   FWHM; the 2–3 band is common practice;
 * ``suggested_binning``: the coarsest binning b (1 … ``max_binning``) that still keeps
   ``pixels_per_fwhm / b ≥ min_pixels_per_fwhm`` — 1 when the sensor is not over-sampled enough to bin.
+
+* ``colour_pixel_scale_arcsec``: a colour (Bayer) sensor samples each colour on a grid of 2 × 2 cells,
+  so its colour sampling is twice the pixel scale (convention, common practice: the green pixels'
+  diagonal grid is finer, the red and blue ones are every other pixel each way); a mono sensor
+  samples every colour at its pixel scale. ``colour_pixels_per_fwhm`` is the seeing FWHM over it.
 
 Example: 3.8 µm pixels at 1200 mm give 206.265 · 3.8 / 1200 ≈ 0.653″ per pixel, so 2″ seeing spans
 about 3.1 pixels: "over-sampled", and 1 × 1 binning is suggested (2 × 2 would give 1.5 pixels).
@@ -23,7 +28,7 @@ import numpy as np
 from pydantic import Field, model_validator
 
 from calculators.base import Calculator, Output
-from calculators.batch import RigBatch
+from calculators.batch import RigBatch, per_batch
 from calculators.builtin.speed import effective_focal_length_mm
 from calculators.schemas import Strict
 
@@ -45,6 +50,7 @@ def pixel_scale_arcsec(pixel_size_um, focal_length_mm) -> np.ndarray:
     return (ARCSEC_PER_RAD * 1e-3) * pixel_size_um / focal_length_mm
 
 
+@per_batch
 def sensor_size_mm(batch: RigBatch) -> tuple[np.ndarray, np.ndarray]:
     """Sensor width and height in mm: pixel count × pixel pitch."""
     pitch_mm = batch["pixel_size_um"] * 1e-3
@@ -99,23 +105,33 @@ class Sampling(Calculator):
     """
 
     name = "sampling"
-    version = "1.0.0"
+    version = "1.1.0"
     summary = "Pixel scale, field of view, and how the pixels sample the seeing."
     Params = SamplingParams
     outputs = (
         Output("pixel_scale_arcsec", "arcsec", "Angle on the sky covered by one pixel."),
-        Output("fov_width_arcmin", "arcmin", "Field of view along the sensor's width."),
-        Output("fov_height_arcmin", "arcmin", "Field of view along the sensor's height."),
-        Output("fov_diagonal_arcmin", "arcmin", "Field of view along the sensor's diagonal."),
+        Output("field_width_arcmin", "arcmin", "Field of view along the sensor's width."),
+        Output("field_height_arcmin", "arcmin", "Field of view along the sensor's height."),
+        Output("field_diagonal_arcmin", "arcmin", "Field of view along the sensor's diagonal."),
         Output("pixels_per_fwhm", "", "Pixels across the seeing FWHM."),
         Output("sampling_verdict", "", "under-sampled, well-sampled or over-sampled, by the "
                "min/max pixels per FWHM criterion.", kind="text"),
         Output("suggested_binning", "", "Coarsest binning that keeps at least min_pixels_per_fwhm."),
+        Output("colour_pixel_scale_arcsec", "arcsec", "Sampling of each colour: twice the pixel scale "
+               "for a colour (Bayer) sensor, the pixel scale for a mono one.", nullable=True),
+        Output("colour_pixels_per_fwhm", "", "Seeing FWHM over the colour sampling.", nullable=True),
     )
+    # Renamed in 1.1.0; the old names are still accepted in evaluations for one release.
+    renamed_outputs = {
+        "fov_width_arcmin": "field_width_arcmin",
+        "fov_height_arcmin": "field_height_arcmin",
+        "fov_diagonal_arcmin": "field_diagonal_arcmin",
+    }
     sources = (
         "Pixel scale p/f and field 2·atan(w/2f): plane geometry; 648 000/π arcsec per radian.",
         "Two samples per resolution element: Nyquist 1928, Shannon 1949 (sampling theorem); "
         "the 2–3 pixels per FWHM band: common practice.",
+        "Colour sampling of a Bayer mosaic at twice the pixel pitch: common practice.",
     )
 
     def compute(self, batch: RigBatch, params: SamplingParams) -> dict[str, np.ndarray]:
@@ -128,13 +144,17 @@ class Sampling(Calculator):
         # Verdict and binning from numbers; only the final lookup makes strings (one per rig).
         code = (ppf >= params.min_pixels_per_fwhm).astype(np.int8)
         code += ppf > params.max_pixels_per_fwhm
+        sensor = batch.columns.get("sensor")
+        colour = scale if sensor is None else np.where(np.asarray(sensor) == "colour", 2.0 * scale, scale)
         binning = np.clip(np.floor(ppf / params.min_pixels_per_fwhm), 1, params.max_binning)
         return {
             "pixel_scale_arcsec": scale,
-            "fov_width_arcmin": full_angle_arcmin(width_mm, twice_f),
-            "fov_height_arcmin": full_angle_arcmin(height_mm, twice_f),
-            "fov_diagonal_arcmin": full_angle_arcmin(diagonal_mm, twice_f),
+            "field_width_arcmin": full_angle_arcmin(width_mm, twice_f),
+            "field_height_arcmin": full_angle_arcmin(height_mm, twice_f),
+            "field_diagonal_arcmin": full_angle_arcmin(diagonal_mm, twice_f),
             "pixels_per_fwhm": ppf,
             "sampling_verdict": VERDICTS[code],
             "suggested_binning": binning.astype(np.int16),
+            "colour_pixel_scale_arcsec": colour,
+            "colour_pixels_per_fwhm": params.seeing_fwhm_arcsec / colour,
         }

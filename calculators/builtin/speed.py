@@ -40,10 +40,11 @@ from __future__ import annotations
 import numpy as np
 
 from calculators.base import Calculator, NoParams, Output
-from calculators.batch import RigBatch
-from calculators.builtin.light_grasp import clear_area_mm2
+from calculators.batch import RigBatch, per_batch
+from calculators.builtin.light_grasp import batch_clear_area_mm2
 
 
+@per_batch
 def effective_focal_length_mm(batch: RigBatch) -> np.ndarray:
     """Focal length after the modifier (reducer, barlow, ...): f · factor, in mm (f without one)."""
     return batch["focal_length_mm"] * batch["modifier_factor"]
@@ -98,7 +99,7 @@ class Speed(Calculator):
         focal_mm = effective_focal_length_mm(batch)
         tau = throughput(batch)
         # Light collected per unit sky area; per pixel it is further scaled by Ω_pixel ∝ (p/f)².
-        per_area = clear_area_mm2(batch["aperture_mm"], batch["obstruction_mm"]) * tau
+        per_area = batch_clear_area_mm2(batch) * tau
         per_pixel = per_area * np.square(batch["pixel_size_um"] / focal_mm)
         with np.errstate(divide="ignore", invalid="ignore"):
             return {

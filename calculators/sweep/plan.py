@@ -101,6 +101,8 @@ def resolve_key(key: str, where: str, calculators: Mapping[str, Calculator]) -> 
         raise UnknownOutput(
             f"{where}: {key!r} names no loaded calculator {name!r}; available: {known}", loc=loc
         )
+    # An output renamed in this release is still accepted by its old name (for one release).
+    output = calculator.renamed_outputs.get(output, output)
     for declared in calculator.outputs:
         if declared.name == output:
             if declared.kind != "number":
@@ -109,7 +111,7 @@ def resolve_key(key: str, where: str, calculators: Mapping[str, Calculator]) -> 
                     "constrained or optimised",
                     loc=loc,
                 )
-            return OutputKey(key, name, declared)
+            return OutputKey(f"{name}.{output}", name, declared)
     known = ", ".join(o.name for o in calculator.outputs)
     raise UnknownOutput(
         f"{where}: {key!r}: calculator {name!r} has no output {output!r}; its outputs: {known}",
@@ -137,16 +139,18 @@ def plan_calculators(constraints, objectives, params, calculators):
         if resolved.output.name not in plan.outputs:
             plan.outputs.append(resolved.output.name)
 
-    for key, raw in constraints.items():
-        resolved = resolve_key(key, "constraints", calculators)
-        bounds[key] = _bounds(key, raw)
+    for given, raw in constraints.items():
+        resolved = resolve_key(given, "constraints", calculators)
+        key = resolved.key  # the current name, also when the request used an old one
+        bounds[key] = _bounds(given, raw)
         need(resolved, "constraints")
-    for key, direction in objectives.items():
-        resolved = resolve_key(key, "objectives", calculators)
+    for given, direction in objectives.items():
+        resolved = resolve_key(given, "objectives", calculators)
+        key = resolved.key
         if direction not in ("min", "max"):
             raise EvaluationError(
-                f'objectives: {key!r} must be "min" or "max", got {direction!r}',
-                loc=("objectives", key),
+                f'objectives: {given!r} must be "min" or "max", got {direction!r}',
+                loc=("objectives", given),
             )
         directions[key] = direction
         if resolved.output.nullable:

@@ -125,3 +125,69 @@ def test_an_empty_comparison_and_an_unknown_column_are_refused():
     batch = RigBatch.from_rigs([Rig(name="a", telescope=SCOPE_80, camera=CAMERA)])
     with pytest.raises(KeyError, match="no column 'colour'"):
         batch["colour"]
+
+
+# --- per_batch: quantities shared by several calculators, computed once per batch -------------------
+
+CORE = ("light_grasp", "etendue", "speed", "sampling", "payload", "cost")
+
+
+def test_a_per_batch_helper_runs_once_per_batch_and_its_result_is_read_only():
+    from calculators.batch import per_batch
+
+    calls = []
+
+    @per_batch
+    def doubled_aperture(batch):
+        calls.append(1)
+        return batch["aperture_mm"] * 2
+
+    rig = Rig(name="a", telescope={"aperture_mm": 100, "focal_length_mm": 500},
+              camera={"pixel_size_um": 3.8, "width_px": 6000, "height_px": 4000})
+    batch, other = RigBatch.from_rigs([rig]), RigBatch.from_rigs([rig])
+    first = doubled_aperture(batch)
+    assert doubled_aperture(batch) is first and len(calls) == 1
+    assert doubled_aperture(other) is not first and len(calls) == 2  # another batch: computed afresh
+    with pytest.raises(ValueError, match="read-only"):
+        first *= 2  # one calculator cannot change the shared value for the others
+    # A plain mapping of columns has nowhere to keep it: computed on every call.
+    doubled_aperture(dict(batch))
+    doubled_aperture(dict(batch))
+    assert len(calls) == 4
+
+
+def _core_outputs(batch_for):
+    from plugins.registry import load_registry
+    from plugins.runner import parse_params
+
+    registry = load_registry()
+    return {name: registry.get(name).compute(batch_for(name), parse_params(registry.get(name), None))
+            for name in CORE}
+
+
+@given(rig_lists(min_size=1, max_size=6))
+@settings(deadline=None, max_examples=40)
+def test_sharing_quantities_across_calculators_changes_no_number(rigs):
+    """One batch for all six core calculators gives bit-for-bit the outputs of a fresh batch each."""
+    shared = RigBatch.from_rigs(rigs)
+    together = _core_outputs(lambda name: shared)
+    apart = _core_outputs(lambda name: RigBatch.from_rigs(rigs))
+    for name in CORE:
+        for output, values in apart[name].items():
+            np.testing.assert_array_equal(together[name][output], values, err_msg=f"{name}.{output}")
+
+
+@given(sweeps())
+@settings(deadline=None, max_examples=20)
+def test_sharing_in_a_sweep_batch_changes_no_number(sweep):
+    telescopes, cameras, modifiers, mounts, baseline = sweep
+
+    def batch():
+        return RigBatch.from_components(telescopes, cameras, modifiers, mounts, baseline=baseline)
+
+    shared = batch()
+    together = _core_outputs(lambda name: shared)
+    apart = _core_outputs(lambda name: batch())
+    for name in CORE:
+        for output, values in apart[name].items():
+            np.testing.assert_array_equal(together[name][output], values, err_msg=f"{name}.{output}")

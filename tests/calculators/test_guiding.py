@@ -42,18 +42,18 @@ def test_gaussian_fwhm_constant_matches_astropy():
     assert GAUSSIAN_FWHM_PER_SIGMA == pytest.approx(gaussian_sigma_to_fwhm, rel=1e-15)
 
 
-def test_image_scale_through_astropy_units():
+def test_pixel_scale_through_astropy_units():
     values = outputs(CALC, [rig(1000)])
     # astropy.units: 3.8 µm subtending at 1000 mm, small-angle; float rounding only.
     expected = (3.8 * u.um / (1000 * u.mm) * u.rad).to_value(u.arcsec)
-    assert values["image_scale_arcsec"][0] == pytest.approx(expected, rel=1e-12)
+    assert values["pixel_scale_arcsec"][0] == pytest.approx(expected, rel=1e-12)
 
 
-def test_image_scale_of_38_um_pixels_at_1200_mm():
+def test_pixel_scale_of_38_um_pixels_at_1200_mm():
     values = outputs(CALC, [rig(1200, pixel_um=3.8)])
     # Common practice (fact of the trade quoted in issue 2): 3.8 µm at 1200 mm ≈ 0.65″ per pixel;
     # "about" — the exact figure is 0.653″, so half a unit in the second decimal.
-    assert values["image_scale_arcsec"][0] == pytest.approx(0.65, abs=0.005)
+    assert values["pixel_scale_arcsec"][0] == pytest.approx(0.65, abs=0.005)
 
 
 @pytest.mark.parametrize("seeing, growth", [(2.0, 0.10), (1.2, 0.05), (3.5, 0.25)])
@@ -81,8 +81,8 @@ def test_worked_example_of_the_docstring():
     assert values["pixel_rule_rms_arcsec"][0] == pytest.approx(scale / 2, rel=1e-12)
     assert values["seeing_rule_rms_arcsec"][0] == pytest.approx(math.sqrt(2) * 2 * math.sqrt(0.21)
                                                                 / gaussian_sigma_to_fwhm, rel=1e-12)
-    assert values["ruled_by"][0] == "seeing"
-    assert values["guide_scale_max_arcsec"][0] == pytest.approx(values["tolerated_rms_arcsec"][0] / 0.2)
+    assert values["limited_by"][0] == "seeing"
+    assert values["max_guide_pixel_scale_arcsec"][0] == pytest.approx(values["tolerated_rms_arcsec"][0] / 0.2)
 
 
 # --- property tests --------------------------------------------------------------------------
@@ -109,7 +109,7 @@ def test_guide_focal_length_times_guide_scale_is_the_guide_pixel_in_arcsec_mm(
 ):
     params = GuidingParams(guide_pixel_size_um=guide_pixel, centroid_fraction_px=centroid)
     values = outputs(CALC, [rig(focal_length, pixel)], params)
-    product = values["guide_focal_length_min_mm"] * values["guide_scale_max_arcsec"]
+    product = values["min_guide_focal_length_mm"] * values["max_guide_pixel_scale_arcsec"]
     np.testing.assert_allclose(product, 206264.80624709636 * guide_pixel * 1e-3, rtol=1e-12)
 
 

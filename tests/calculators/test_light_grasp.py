@@ -73,19 +73,19 @@ def test_clear_area_is_the_annulus_area():
 def test_limiting_magnitude_gains_five_magnitudes_for_ten_times_the_aperture():
     # Pogson (1856): five magnitudes are a factor 100 in brightness, and 10× the aperture is 100×
     # the area. Exact in the formula; 1e-12 absolute for the logarithms' rounding.
-    m = outputs(rig(50), rig(500))["limiting_magnitude"]
+    m = outputs(rig(50), rig(500))["visual_limiting_magnitude"]
     assert m[1] - m[0] == pytest.approx(5.0, abs=1e-12)
 
 
 def test_limiting_magnitude_uses_the_stated_rule_of_thumb():
     # m = 2.7 + 5·log10(D[mm]) (common practice; Sinnott 1973 as commonly quoted). 100 mm → 12.7.
-    assert outputs(rig(100))["limiting_magnitude"][0] == pytest.approx(12.7, abs=1e-12)
+    assert outputs(rig(100))["visual_limiting_magnitude"][0] == pytest.approx(12.7, abs=1e-12)
 
 
 def test_eye_gain_is_the_area_ratio_to_a_seven_millimetre_pupil():
     # A 7 mm dark-adapted pupil (common practice); 70 mm unobstructed is (70/7)² = 100 times its area.
-    assert outputs(rig(70))["eye_gain"][0] == pytest.approx(100.0, rel=1e-14)
-    assert outputs(rig(70), eye_pupil_mm=5)["eye_gain"][0] == pytest.approx(196.0, rel=1e-14)
+    assert outputs(rig(70))["light_gain_over_eye"][0] == pytest.approx(100.0, rel=1e-14)
+    assert outputs(rig(70), eye_pupil_mm=5)["light_gain_over_eye"][0] == pytest.approx(196.0, rel=1e-14)
 
 
 def test_outputs_are_finite_numbers_with_declared_units():

@@ -100,7 +100,7 @@ def test_lumped_time_constant_is_rho_c_t_over_2h():
     values = outputs(CALC, [rig(25.0)], convective_only(8.0))
     # Incropera §5.2: τ = ρcV/(hA) with V/A = t/2 for a plate losing heat from both faces.
     rho, c, _ = GLASSES["borosilicate"]
-    assert values["time_constant_min"][0] == pytest.approx(rho * c * 0.0125 / 8.0 / 60, rel=1e-12)
+    assert values["time_constant_minutes"][0] == pytest.approx(rho * c * 0.0125 / 8.0 / 60, rel=1e-12)
 
 
 @pytest.mark.parametrize("thickness_mm, h", [(25.0, 8.0), (25.0, 25.0), (60.0, 40.0)])
@@ -110,7 +110,7 @@ def test_settling_time_matches_the_heat_equation(thickness_mm, h):
     # half plate: its discretisation error is about (1/20)² ≈ 0.3 %, hence 1 %. The last case has
     # Bi ≈ 0.86, where the lumped model would be 30 % off.
     expected = settle_by_finite_differences(thickness_mm, h, 10.0, 1.0)
-    assert values["settle_time_min"][0] == pytest.approx(expected, rel=0.01)
+    assert values["settle_time_minutes"][0] == pytest.approx(expected, rel=0.01)
 
 
 @pytest.mark.parametrize("thickness_mm, h", [(25.0, 8.0), (60.0, 40.0)])
@@ -118,7 +118,7 @@ def test_lag_behind_falling_air_matches_the_heat_equation(thickness_mm, h):
     params = convective_only(h, ambient_fall_k_per_h=2.0)
     values = outputs(CALC, [rig(thickness_mm)], params)
     # Finite differences as above, run for 12 time constants so the start-up has died away.
-    hours = 12 * values["time_constant_min"][0] / 60
+    hours = 12 * values["time_constant_minutes"][0] / 60
     expected = lag_by_finite_differences(thickness_mm, h, 2.0, hours)
     assert values["lag_k"][0] == pytest.approx(expected, rel=0.01)
 
@@ -126,8 +126,8 @@ def test_lag_behind_falling_air_matches_the_heat_equation(thickness_mm, h):
 def test_missing_thickness_gives_nulls():
     values = outputs(CALC, [Rig(name="r", telescope=Telescope(aperture_mm=100, focal_length_mm=600),
                                 camera=Camera(pixel_size_um=3.8, width_px=10, height_px=10))])
-    assert math.isnan(values["time_constant_min"][0])
-    assert math.isnan(values["settle_time_fan_min"][0])
+    assert math.isnan(values["time_constant_minutes"][0])
+    assert math.isnan(values["settle_time_fan_minutes"][0])
     assert values["model_note"][0] == "unknown (mirror thickness not stated)"
 
 
@@ -137,15 +137,15 @@ def test_missing_thickness_gives_nulls():
 def test_time_constant_is_proportional_to_thickness(thickness, k):
     thin = outputs(CALC, [rig(thickness)])
     thick = outputs(CALC, [rig(thickness * k)])
-    np.testing.assert_allclose(thick["time_constant_min"], thin["time_constant_min"] * k, rtol=1e-12)
+    np.testing.assert_allclose(thick["time_constant_minutes"], thin["time_constant_minutes"] * k, rtol=1e-12)
 
 
 @given(st.floats(5, 100), st.floats(1, 10), st.floats(10.5, 100))
 def test_fans_cool_faster_and_lag_less(thickness, still, fan):
     values = outputs(CALC, [rig(thickness)], MirrorCooldownParams(convection_still_w_m2k=still,
                                                                   convection_fan_w_m2k=fan))
-    assert values["time_constant_fan_min"][0] < values["time_constant_min"][0]
-    assert values["settle_time_fan_min"][0] < values["settle_time_min"][0]
+    assert values["time_constant_fan_minutes"][0] < values["time_constant_minutes"][0]
+    assert values["settle_time_fan_minutes"][0] < values["settle_time_minutes"][0]
     assert values["lag_fan_k"][0] < values["lag_k"][0]
 
 
@@ -162,8 +162,8 @@ def test_each_factor_e_of_initial_difference_adds_one_slowest_mode_time(thicknes
     # and τ₁ tends to the lumped τ as Bi → 0 (so it lies between τ and τ·(1 + Bi/3 + …)).
     a = outputs(CALC, [rig(thickness)], MirrorCooldownParams(initial_difference_k=initial))
     b = outputs(CALC, [rig(thickness)], MirrorCooldownParams(initial_difference_k=initial * math.e))
-    added = b["settle_time_min"][0] - a["settle_time_min"][0]
-    assert a["time_constant_min"][0] <= added <= a["time_constant_min"][0] * (1 + a["biot_number"][0] / 2)
+    added = b["settle_time_minutes"][0] - a["settle_time_minutes"][0]
+    assert a["time_constant_minutes"][0] <= added <= a["time_constant_minutes"][0] * (1 + a["biot_number"][0] / 2)
 
 
 @pytest.mark.parametrize("check", conformance_checks(MirrorCooldown), ids=str)
@@ -174,6 +174,6 @@ def test_meets_the_conformance_kit(check):
 
 def test_runs_through_compare_with_default_params():
     outcome = demo_outcome("mirror_cooldown")
-    assert outcome.outputs["time_constant_min"].unit == "min"
-    assert outcome.outputs["time_constant_min"].values[2] is None  # the refractor states no mirror
-    assert outcome.outputs["time_constant_min"].values[0] > 0
+    assert outcome.outputs["time_constant_minutes"].unit == "min"
+    assert outcome.outputs["time_constant_minutes"].values[2] is None  # the refractor states no mirror
+    assert outcome.outputs["time_constant_minutes"].values[0] > 0

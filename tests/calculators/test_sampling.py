@@ -57,9 +57,9 @@ def test_diagonal_field_satisfies_the_pythagorean_relation_of_half_angle_tangent
     # tan(diag/2)² = tan(w/2)² + tan(h/2)² exactly, since the half-sizes over f form a right triangle.
     out = outputs(r)
     half = {k: math.tan(out[k][0] / ARCMIN_PER_RAD / 2) for k in
-            ("fov_width_arcmin", "fov_height_arcmin", "fov_diagonal_arcmin")}
-    assert half["fov_diagonal_arcmin"] ** 2 == pytest.approx(
-        half["fov_width_arcmin"] ** 2 + half["fov_height_arcmin"] ** 2, rel=1e-12
+            ("field_width_arcmin", "field_height_arcmin", "field_diagonal_arcmin")}
+    assert half["field_diagonal_arcmin"] ** 2 == pytest.approx(
+        half["field_width_arcmin"] ** 2 + half["field_height_arcmin"] ** 2, rel=1e-12
     )
 
 
@@ -70,11 +70,11 @@ def test_field_is_no_wider_than_pixel_count_times_pixel_scale(r):
     out = outputs(r)
     scale_arcmin = out["pixel_scale_arcsec"][0] / 60
     paraxial = r.camera.width_px * scale_arcmin
-    assert out["fov_width_arcmin"][0] <= paraxial * (1 + 1e-12)
+    assert out["field_width_arcmin"][0] <= paraxial * (1 + 1e-12)
     x = paraxial / ARCMIN_PER_RAD / 2  # half-width over f
     if x < 0.05:
         # atan(x) = x(1 − x²/3 + …): relative difference below x²/3 + rounding.
-        assert out["fov_width_arcmin"][0] == pytest.approx(paraxial, rel=x * x / 3 + 1e-12)
+        assert out["field_width_arcmin"][0] == pytest.approx(paraxial, rel=x * x / 3 + 1e-12)
 
 
 @given(rigs(), st.floats(0.5, 6), st.floats(0.5, 4), st.floats(0, 4))
@@ -152,9 +152,9 @@ def test_field_of_view_equals_the_angle_between_the_rays_to_the_sensor_edges(foc
     w = r.camera.width_px * pixel_um / 1000
     h = r.camera.height_px * pixel_um / 1000
     out = outputs(r)
-    assert out["fov_width_arcmin"][0] == pytest.approx(angle(w / 2), rel=1e-9)
-    assert out["fov_height_arcmin"][0] == pytest.approx(angle(h / 2), rel=1e-9)
-    assert out["fov_diagonal_arcmin"][0] == pytest.approx(angle(math.hypot(w, h) / 2), rel=1e-9)
+    assert out["field_width_arcmin"][0] == pytest.approx(angle(w / 2), rel=1e-9)
+    assert out["field_height_arcmin"][0] == pytest.approx(angle(h / 2), rel=1e-9)
+    assert out["field_diagonal_arcmin"][0] == pytest.approx(angle(math.hypot(w, h) / 2), rel=1e-9)
 
 
 def test_two_pixels_per_fwhm_is_the_edge_of_well_sampled():
@@ -173,3 +173,24 @@ def test_params_are_validated():
         SamplingParams(seeing_fwhm_arcsec=0)
     with pytest.raises(ValidationError, match="Extra inputs"):
         SamplingParams(seeing=2)
+
+
+def test_colour_sampling_is_twice_the_pixel_scale_for_a_bayer_sensor_and_equal_for_mono():
+    # Convention (common practice): a Bayer mosaic samples each colour on 2 × 2 cells.
+    import numpy as np
+
+    from calculators.batch import RigBatch
+    from calculators.builtin.sampling import Sampling, SamplingParams
+    from calculators.schemas import Rig
+
+    rig = Rig(name="r", telescope={"aperture_mm": 200, "focal_length_mm": 1200},
+              camera={"pixel_size_um": 3.8, "width_px": 4000, "height_px": 3000})
+    plain = RigBatch.from_rigs([rig, rig])
+    batch = RigBatch(columns={**plain.columns, "sensor": np.array(["mono", "colour"])}, baseline=(0,))
+    out = Sampling().compute(batch, SamplingParams(seeing_fwhm_arcsec=3.0))
+    scale = out["pixel_scale_arcsec"]
+    assert out["colour_pixel_scale_arcsec"].tolist() == [scale[0], 2 * scale[1]]
+    assert out["colour_pixels_per_fwhm"][1] == 3.0 / (2 * scale[1])
+    # Without a sensor column (no sensor stated): the pixel scale, as for mono.
+    plain_out = Sampling().compute(plain, SamplingParams())
+    assert (plain_out["colour_pixel_scale_arcsec"] == plain_out["pixel_scale_arcsec"]).all()

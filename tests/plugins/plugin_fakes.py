@@ -110,6 +110,14 @@ class DuplicateOutputs(Good):
     )
 
 
+class RenamedToNothing(Good):
+    renamed_outputs = {"aperture_scaled_mm": "no_such_output"}
+
+
+class RenamedStillDeclared(Good):
+    renamed_outputs = {"scaled_aperture_mm": "scaled_aperture_mm"}
+
+
 class BadOutputKind(Good):
     outputs = (Output("scaled_aperture_mm", "mm", "Unknown kind.", kind="complex"),)
 

@@ -30,7 +30,7 @@ RIGS = [
      "telescope": {"design": "refractor", "aperture_mm": 80, "focal_length_mm": 480},
      "camera": {"pixel_size_um": 3.8, "width_px": 6000, "height_px": 4000}},
 ]
-DEW_OUTPUTS = {"dew_point_c": "degC", "optics_temperature_c": "degC", "dew_margin_c": "delta_degC",
+DEW_OUTPUTS = {"dew_point_c": "degC", "optics_temperature_c": "degC", "dew_margin_k": "K",
                "dew_risk": "", "heating_power_w": "W"}
 
 

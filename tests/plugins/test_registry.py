@@ -90,6 +90,8 @@ CONTRACT_VIOLATIONS = [
     ("UnknownUnit", "unit 'lumens per banana' is not one pint can read"),
     ("HugeUnit", "unit '9**9**9 mm' is not a plain unit expression"),
     ("DuplicateOutputs", "output name(s) scaled_aperture_mm declared more than once"),
+    ("RenamedToNothing", "renamed to 'no_such_output', which is not a declared output"),
+    ("RenamedStillDeclared", "old name 'scaled_aperture_mm' is still a declared output"),
     ("BadOutputKind", "kind 'complex' is not one of number, text, boolean"),
     ("ParamsNotPydantic", "Params must be a pydantic model class"),
     ("ParamsWithoutDefault", "Params field(s) scale have no default"),

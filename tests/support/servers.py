@@ -2,11 +2,14 @@
 
 ``database(backend, tmp_path)`` gives a SQLite file URL or a fresh PostgreSQL schema on the server named by
 ``RIGBENCH_TEST_POSTGRES_URL`` (dropped afterwards), migrated and holding one account whose key it
-returns. ``Server`` runs ``uvicorn --factory api.app:create_app`` against it.
+returns (``others=("bob",)`` adds more accounts, their keys in ``keys``). ``Server`` runs ``uvicorn --factory
+api.app:create_app`` against it, or ``rigbench serve --workers N`` when given ``workers`` (N processes behind
+one listening socket).
 """
 
 from __future__ import annotations
 
+import json
 import os
 import signal
 import socket
@@ -16,7 +19,7 @@ import time
 import uuid
 from collections.abc import Iterator
 from contextlib import contextmanager
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from pathlib import Path
 
 import httpx
@@ -48,10 +51,13 @@ class Database:
     url: str
     key: str
     sqlite_file: Path | None
+    keys: dict[str, str] = field(default_factory=dict)  # every account's key, by handle
 
 
 @contextmanager
-def database(backend: str, tmp_path: Path, account: str = "alice") -> Iterator[Database]:
+def database(
+    backend: str, tmp_path: Path, account: str = "alice", others: tuple[str, ...] = ()
+) -> Iterator[Database]:
     """A migrated database with one account; skips the test when PostgreSQL is asked for but not given."""
     if backend == "sqlite":
         path = tmp_path / "rigbench.db"
@@ -74,10 +80,12 @@ def database(backend: str, tmp_path: Path, account: str = "alice") -> Iterator[D
     engine = db.make_engine(url)
     try:
         db.upgrade(engine)
+        keys = {}
         with Session(engine) as session:
-            _account, key = create_account(session, account)
+            for name in (account, *others):
+                _account, keys[name] = create_account(session, name)
         engine.dispose()
-        yield Database(url, key, sqlite_file)
+        yield Database(url, keys[account], sqlite_file, keys)
     finally:
         engine.dispose()
         if cleanup is not None:
@@ -87,8 +95,10 @@ def database(backend: str, tmp_path: Path, account: str = "alice") -> Iterator[D
 class Server:
     """One uvicorn process serving rigbench on a free loopback port."""
 
-    def __init__(self, database_url: str, folder: Path, *, env: dict[str, str] | None = None, name: str = "server"):
+    def __init__(self, database_url: str, folder: Path, *, env: dict[str, str] | None = None, name: str = "server",
+                 workers: int | None = None):
         self.database_url = database_url
+        self.workers = workers
         self.folder = folder
         self.extra_env = {**NO_RATE_LIMITS, **(env or {})}
         self.name = name
@@ -104,9 +114,14 @@ class Server:
         env = {**os.environ, "RIGBENCH_DATABASE_URL": self.database_url,
                "RIGBENCH_DATA_DIR": str(self.folder / "data"), **self.extra_env}
         log = open(self.log_path, "ab")
+        if self.workers is None:
+            command = [sys.executable, "-m", "uvicorn", "--factory", "api.app:create_app", "--host", HOST,
+                       "--port", str(self.port), "--no-access-log", "--log-level", "warning"]
+        else:
+            command = [sys.executable, "-m", "api.cli", "serve", "--workers", str(self.workers), "--host", HOST,
+                       "--port", str(self.port), "--log-level", "warning"]
         self.process = subprocess.Popen(
-            [sys.executable, "-m", "uvicorn", "--factory", "api.app:create_app", "--host", HOST,
-             "--port", str(self.port), "--no-access-log", "--log-level", "warning"],
+            command,
             cwd=ROOT, env=env, stdout=log, stderr=subprocess.STDOUT,
         )
         log.close()
@@ -115,12 +130,22 @@ class Server:
             if self.process.poll() is not None:
                 raise RuntimeError(f"{self.name} exited at start:\n{self.log()}")
             try:
-                if httpx.get(f"{self.url}/healthz", timeout=1).status_code == 200:
+                if httpx.get(f"{self.url}/healthz", timeout=1).status_code == 200 and self.all_workers_answer():
                     return self
             except httpx.HTTPError:
                 time.sleep(0.1)
         self.stop()
         raise RuntimeError(f"{self.name} did not answer /healthz within {timeout_s} s:\n{self.log()}")
+
+    def worker_pids(self, method: str | None = None) -> set[int]:
+        """Processes that wrote a request log line (of ``method``, if given): each line has its pid."""
+        lines = [json.loads(line) for line in self.log().splitlines() if line.startswith("{")]
+        return {line["pid"] for line in lines
+                if line.get("logger") == "rigbench.access" and method in (None, line["method"])}
+
+    def all_workers_answer(self) -> bool:
+        """With several workers, ready once each of them has answered a request (on a new connection)."""
+        return self.workers is None or len(self.worker_pids()) >= self.workers
 
     def kill(self) -> None:
         """SIGKILL: no shutdown, no flushing, as in a crash or an out-of-memory kill."""

@@ -71,8 +71,8 @@ def test_pictures_need_the_calculators_they_draw():
 
 
 def test_the_fields_picture_falls_back_to_the_sampling_field():
-    fields = comparison({"sampling": result({"fov_width_arcmin": ("arcmin", [60.0, 120.0]),
-                                             "fov_height_arcmin": ("arcmin", [40.0, 80.0])})})
+    fields = comparison({"sampling": result({"field_width_arcmin": ("arcmin", [60.0, 120.0]),
+                                             "field_height_arcmin": ("arcmin", [40.0, 80.0])})})
     svg = club_view.fields_picture(fields)
     assert svg is not None and "rig 1: field 60.0′ × 40.0′." in svg and "rig 2: field 120′ × 80.0′." in svg
 

@@ -185,3 +185,11 @@ def test_accept_header_chooses_the_format(client, accept, csv_expected):
     response = client.post("/v1/comparisons", json={"rigs": [INLINE_RIG], "calculators": ["light_grasp"]},
                            headers={"Accept": accept})
     assert response.headers["content-type"].startswith("text/csv" if csv_expected else "application/json")
+
+
+def test_an_absurd_aperture_next_to_a_normal_rig_is_a_422_naming_it(client):
+    from rigbench_testing import INLINE_RIG, assert_problem
+
+    huge = {**INLINE_RIG, "telescope": {**INLINE_RIG["telescope"], "aperture_mm": 1e308}}
+    answer = client.post("/v1/comparisons", json={"rigs": [INLINE_RIG, huge]})
+    assert_problem(answer, 422, "rigs.1.telescope.aperture_mm")

@@ -41,3 +41,17 @@ def test_floats_keep_every_digit():
                               units={"light.area": "mm^2", "cost.price": "EUR"})
     lines = list(csv.DictReader(io.StringIO(evaluation_csv(result))))
     assert float(lines[0]["light.area [mm^2]"]) == value
+
+
+def test_the_calculators_cautions_follow_the_table_in_a_final_block():
+    result = EvaluationResult(
+        evaluated=1, feasible=1, front=[row(0, 0.0, 1.0, 1.0)], top=[], baseline=row(0, 0.0, 1.0, 1.0),
+        baseline_feasible=True, units={"light.area": "mm^2", "cost.price": ""},
+        cautions={"light": ["Never near the Sun, without a solar filter."], "cost": []},
+    )
+    text = evaluation_csv(result)
+    rows = list(csv.reader(io.StringIO(text)))
+    assert rows[-2] == [] and rows[-1] == ["# caution: light", "Never near the Sun, without a solar filter."]
+    pandas = __import__("pytest").importorskip("pandas")
+    table = pandas.read_csv(io.StringIO(text), comment="#")
+    assert len(table) == 2 and list(table.columns)[-1] == "score"

@@ -432,7 +432,9 @@ def test_csv_is_the_same_answer_as_a_table(client, alice):
     response = client.post("/v1/evaluations", json=body, headers={**alice.headers, "Accept": "text/csv"})
     assert response.status_code == 200 and response.headers["content-type"].startswith("text/csv")
     assert response.text.endswith("\r\n")  # RFC 4180 line breaks
-    lines = list(csv.DictReader(io.StringIO(response.text)))
+    table, _blank, block = response.text.partition("\r\n\r\n")  # the cautions' final block follows
+    assert all(line.startswith("# caution: ") for line in block.splitlines())
+    lines = list(csv.DictReader(io.StringIO(table + "\r\n")))
     expected = ([("front", r) for r in data["front"]] + [("top", r) for r in data["top"]]
                 + [("baseline", data["baseline"])])
     assert [line["set"] for line in lines] == [name for name, _ in expected]

@@ -12,7 +12,7 @@ Formulas (units in the names; temperatures in °C unless marked K):
 * **Optics temperature** ``To = T − ΔTrad``: a surface that sees a clear night sky radiates more than
   it receives and settles below the air temperature. ``ΔTrad`` is a param (default 3 °C, common
   practice: a few degrees under a clear sky, less under cloud or behind a long dew shield).
-* **Dew margin** ``To − Td`` [K]; dew is a risk when it is below the safety margin (param, default
+* **Dew margin** ``To − Td`` in kelvin (a temperature difference, ``dew_margin_k``); dew is a risk when it is below the safety margin (param, default
   2 °C, common practice).
 * **Heating power**: the net heat the front optic (area ``A = π/4·D²``, D the aperture) must receive
   to hold it at the target ``Tt = Td + margin`` instead of ``To``. With ``Ts`` the sky's radiant
@@ -91,17 +91,20 @@ class Dew(Calculator):
     """
 
     name = "dew"
-    version = "1.0.0"
+    version = "1.1.0"
     summary = "Dew point, dew margin of the front optic and the net heating power that keeps it dry."
     Params = DewParams
     outputs = (
         Output("dew_point_c", "degC", "Dew point of the air (Magnus form)."),
         Output("optics_temperature_c", "degC", "Temperature of the unheated front optic under the sky."),
-        Output("dew_margin_c", "delta_degC", "Optics temperature minus dew point; dew forms below zero."),
+        Output("dew_margin_k", "K", "Optics temperature minus dew point, a difference in kelvin; dew forms "
+               "below zero."),
         Output("dew_risk", "", "True when the dew margin is below the safety margin.", kind="boolean"),
         Output("heating_power_w", "W", "Net heat the front optic needs to stay the safety margin above the "
                "dew point (0 when it already does)."),
     )
+    # Renamed in 1.1.0; the old name is still accepted in evaluations for one release.
+    renamed_outputs = {"dew_margin_c": "dew_margin_k"}
     sources = (
         "Alduchov, O. A. & Eskridge, R. E., Improved Magnus form approximation of saturation vapor pressure, "
         "J. Appl. Meteor. 35 (1996) 601-609: a = 17.625, b = 243.04 °C.",
@@ -126,7 +129,7 @@ class Dew(Calculator):
         return {
             "dew_point_c": dew_point,
             "optics_temperature_c": optics,
-            "dew_margin_c": margin,
+            "dew_margin_k": margin,
             "dew_risk": margin < params.safety_margin_c,
             "heating_power_w": heating_power_w(
                 area_m2, optics, dew_point + params.safety_margin_c, params.emissivity, params.convection_w_m2k

@@ -1,0 +1,102 @@
+"""The combinations a report draws besides the front: a deterministic sample of the sweep.
+
+A sweep's answer holds the front and the top rows, not the feasible combinations around them; the
+trade-off chart draws those from a sample. Up to :data:`SAMPLE_SIZE` combinations are picked
+uniformly without replacement by a generator with a fixed seed (all of them when there are fewer),
+so the same request always draws the same points; their constrained and objective outputs are
+computed on a one-row-per-combination batch (with the baseline, so relative outputs keep their
+meaning), and the feasible ones are kept with the same rule the sweep uses (every constrained and
+objective value finite, every bound met, the effective focal ratio physical).
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Mapping, Sequence
+from dataclasses import dataclass
+
+import numpy as np
+
+from calculators.batch import AXES, RigBatch
+from calculators.evaluation_schemas import EvaluationSpec
+from calculators.schemas import MIN_FOCAL_RATIO
+from calculators.sweep import EvaluationError, resolve_key
+from plugins.runner import parse_params, run
+
+#: Most combinations computed for the chart's cloud of feasible points.
+SAMPLE_SIZE = 2000
+SEED = 20261202
+
+
+@dataclass(frozen=True)
+class Sample:
+    """Sampled combinations: ``indices`` (n, 4), ``values`` per key (n,), ``feasible`` (n,)."""
+
+    evaluated: int
+    indices: np.ndarray
+    values: dict[str, np.ndarray]
+    feasible: np.ndarray
+
+    @property
+    def size(self) -> int:
+        return int(self.indices.shape[0])
+
+
+def canonical(key: str, calculators: Mapping) -> str:
+    """The current name of an output key (a renamed output is still accepted by its old name)."""
+    try:
+        return resolve_key(key, "objectives", calculators).key
+    except EvaluationError:
+        return key  # not loaded any more: left as saved
+
+
+def pick(evaluated: int, size: int = SAMPLE_SIZE, seed: int = SEED) -> np.ndarray:
+    """Sorted flat positions of the sampled combinations (all of them when ``evaluated <= size``)."""
+    if evaluated <= size:
+        return np.arange(evaluated, dtype=np.int64)
+    return np.sort(np.random.default_rng(seed).choice(evaluated, size=size, replace=False))
+
+
+def sample(components: Sequence[Sequence], spec: EvaluationSpec, calculators: Mapping,
+           size: int = SAMPLE_SIZE) -> Sample:
+    sizes = tuple(len(items) for items in components)
+    evaluated = math.prod(sizes)
+    flat = pick(evaluated, size)
+    base = int(np.ravel_multi_index(tuple(getattr(spec.baseline, k) for k in AXES), sizes))
+    rows = np.union1d(flat, [base])
+    index = np.unravel_index(rows, sizes)
+    sweep = RigBatch.from_components(*components)
+    columns = {}
+    for name, column in sweep.columns.items():
+        column = np.asarray(column)
+        picked = column[tuple(ix if n > 1 else 0 for ix, n in zip(index, column.shape))]
+        columns[name] = np.broadcast_to(picked, rows.shape)
+    batch = RigBatch(columns=columns, baseline=(int(np.searchsorted(rows, base)),))
+
+    constraints = {canonical(k, calculators): b for k, b in spec.constraints.items()}
+    keys = list(dict.fromkeys([*constraints, *(canonical(k, calculators) for k in spec.objectives)]))
+    wanted: dict[str, list[str]] = {}
+    for key in keys:
+        name, _, output = key.partition(".")
+        wanted.setdefault(name, []).append(output)
+    values: dict[str, np.ndarray] = {}
+    for name, outputs in wanted.items():
+        calculator = calculators.get(name)  # unloaded since the answer was saved: nothing to draw
+        outcome = None if calculator is None else run(calculator, batch, parse_params(calculator, spec.params.get(name)))
+        for output in outputs:
+            got = None if outcome is None or outcome.error else outcome.values.get(output)
+            values[f"{name}.{output}"] = (np.full(rows.shape, np.nan) if got is None
+                                          else np.broadcast_to(np.asarray(got, dtype=np.float64), rows.shape))
+    ratio = columns["focal_length_mm"] * columns["modifier_factor"] / columns["aperture_mm"]
+    feasible = ratio >= MIN_FOCAL_RATIO
+    for key in keys:
+        feasible &= np.isfinite(values[key])
+    for key, bounds in constraints.items():
+        v = values[key]
+        if bounds.min is not None:
+            feasible &= v >= bounds.min
+        if bounds.max is not None:
+            feasible &= v <= bounds.max
+    keep = np.isin(rows, flat)  # the baseline only served as the reference row
+    return Sample(evaluated, np.stack(index, axis=1)[keep], {k: v[keep] for k, v in values.items()},
+                  feasible[keep])

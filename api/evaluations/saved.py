@@ -1,0 +1,301 @@
+"""Saved evaluations: a purchase evaluation kept with its answer, its owner and its visibility.
+
+What is kept (``SavedEvaluationRow``): the request as sent; a copy of every component it was
+computed from (a stored ``{"id": N}`` entry copied as it was at saving, so the report can always be
+drawn); which entries were stored ids; and the answer. Reading one later compares each stored
+entry with the equipment as it is now (``unchanged``, ``changed``, ``retired`` or ``gone`` —
+deleted, or no longer readable by the caller), and a re-run computes the answer again from today's
+equipment (the copy standing in for what is gone) and says what changed.
+
+Privacy: a saved evaluation is read like other stored items (its owner, or anyone when public);
+one that is private to someone else is a 404, never a 403. A public one shows the names, specs
+and prices of the equipment it was computed from, as they were at saving.
+"""
+
+from __future__ import annotations
+
+from datetime import datetime
+from typing import Any, Literal
+
+from pydantic import BaseModel, Field, ValidationError, field_validator
+from sqlalchemy import Engine
+from sqlmodel import Session, select
+
+from api.accounts.keys import Principal
+from api.evaluations.request import (
+    LISTS,
+    MODELS,
+    EvaluationRequest,
+    as_problem,
+    check_size,
+    inline_components,
+    needs_database,
+    resolve_components,
+    sizes,
+    with_site,
+)
+from api.http.problems import from_validation_error
+from api.schemas import Ref, Visible, refuse_nul
+from api.sites.conditions import read_site
+from api.storage import store
+from api.storage.models import CameraRow, ModifierRow, MountRow, SavedEvaluationRow, TelescopeRow, Visibility
+from calculators.batch import AXES
+from calculators.evaluation_schemas import EvaluationResult, Indices
+from calculators.schemas import Name
+from calculators.sweep import EvaluationError, evaluate_spec
+
+TABLES = {"telescope": TelescopeRow, "camera": CameraRow, "modifier": ModifierRow, "mount": MountRow}
+LABEL = "saved evaluation"
+
+#: Most value changes listed in a re-run's answer (the whole new answer is there too).
+MAX_VALUE_CHANGES = 200
+
+
+class SavedEvaluationCreate(EvaluationRequest):
+    """An evaluation request to compute and keep, with a name and who may read it."""
+
+    name: Name = Field(description="What this evaluation is for, e.g. 'first imaging rig'.")
+    visibility: Visible = Visibility.private
+
+    _name_has_no_nul = field_validator("name")(refuse_nul)
+
+
+Status = Literal["unchanged", "changed", "retired", "gone"]
+
+
+class StoredEntry(BaseModel):
+    """One ``{"id": N}`` entry of the saved request, compared with that equipment now."""
+
+    kind: Literal["telescope", "camera", "modifier", "mount"]
+    index: int = Field(description="Position in the request's list of that kind.")
+    id: int
+    name: str | None = Field(description="The name it had when the evaluation was saved.")
+    status: Status = Field(description="unchanged; changed (see `changed_fields`); retired; gone "
+                           "(deleted, or no longer readable by you): the saved copy stands in for it.")
+    changed_fields: list[str] = Field(default_factory=list)
+
+
+class SavedEvaluationPublic(BaseModel):
+    """A saved evaluation: its request, the answer it had when saved and its report's address."""
+
+    id: int
+    owner: str
+    name: str | None
+    visibility: Visibility
+    version: int
+    created_at: datetime
+    updated_at: datetime
+    report_url: str = Field(description="Path of the report page (HTML) on this server.")
+    request: dict[str, Any] = Field(description="The request as it was sent.")
+    stored_equipment: list[StoredEntry] = Field(
+        description="Each stored {\"id\": N} entry of the request and how it stands now."
+    )
+    result: EvaluationResult = Field(description="The answer when the evaluation was saved.")
+
+
+class ValueChange(BaseModel):
+    indices: Indices
+    key: str
+    saved: float | None
+    now: float | None
+
+
+class AnswerChanges(BaseModel):
+    """How a re-run's answer differs from the saved one; combinations are named by their indices."""
+
+    evaluated: tuple[int, int] = Field(description="Saved, now.")
+    feasible: tuple[int, int] = Field(description="Saved, now.")
+    front_added: list[Indices] = Field(description="On the front now, not when saved.")
+    front_removed: list[Indices] = Field(description="On the front when saved, not now.")
+    best_saved: Indices | None = Field(description="First row of `top` when saved.")
+    best_now: Indices | None = Field(description="First row of `top` now.")
+    values: list[ValueChange] = Field(
+        description=f"Rows of the front or top both then and now whose values changed (at most "
+        f"{MAX_VALUE_CHANGES})."
+    )
+
+
+class Rerun(BaseModel):
+    """A saved evaluation computed again with the equipment as it is now (nothing is stored)."""
+
+    id: int
+    report_url: str
+    stored_equipment: list[StoredEntry]
+    changes: AnswerChanges
+    result: EvaluationResult = Field(description="The answer now.")
+
+
+def report_path(item_id: int) -> str:
+    return f"/evaluations/{item_id}"
+
+
+# --- saving ---------------------------------------------------------------------------------------
+
+def compute(engine: Engine, principal: Principal | None, body: EvaluationRequest, *, registry,
+            maximum: int, max_front_rows: int, components=None, ids=None):
+    """The components (stored ids resolved, unless given), their ids, the request with the site's
+    conditions in its params, and the answer, as ``POST /v1/evaluations`` computes it; problems
+    name the field."""
+    check_size(body, maximum)
+    if components is None and needs_database(body):
+        components, ids = resolve_components(engine, principal, body)
+    elif components is None:
+        components, ids = inline_components(body), None
+    site, site_id = body.site, None
+    if isinstance(site, Ref):
+        site, site_id = read_site(engine, principal, site)
+    spec, used = with_site(body, site, site_id, registry.calculators)
+    try:
+        result = evaluate_spec(*components, spec, calculators=registry.calculators, ids=ids,
+                               max_combinations=maximum, max_front_rows=max_front_rows)
+    except EvaluationError as exc:
+        raise as_problem(exc, sizes(body)) from None
+    if used is not None:
+        result.site = used
+    return components, ids, spec, result
+
+
+def snapshot(body: EvaluationRequest, components, params: dict[str, Any]) -> dict[str, Any]:
+    """What the row's ``spec`` keeps: the request, a copy of every component, the stored entries,
+    and the params the answer was computed with (a site's conditions filled in)."""
+    request = body.model_dump(mode="json", exclude={"name", "visibility"}, exclude_unset=True)
+    copies = {
+        LISTS[kind]: [None if c is None else c.model_dump(mode="json", exclude_none=True) for c in items]
+        for kind, items in zip(AXES, components)
+    }
+    stored = [
+        {"kind": kind, "index": i, "id": value.id}
+        for kind in AXES for i, value in enumerate(getattr(body, LISTS[kind])) if isinstance(value, Ref)
+    ]
+    return {"request": request, "components": copies, "stored": stored, "params": params}
+
+
+def save(session: Session, principal: Principal, body: SavedEvaluationCreate, components, params,
+         result: EvaluationResult) -> SavedEvaluationRow:
+    return store.insert(session, SavedEvaluationRow, principal, {
+        "name": body.name, "visibility": body.visibility.value,
+        "spec": snapshot(body, components, params), "result": result.model_dump(mode="json"),
+    })
+
+
+# --- reading --------------------------------------------------------------------------------------
+
+def fetch(session: Session, item_id: int, principal: Principal | None) -> tuple[SavedEvaluationRow, str]:
+    """The saved evaluation and its owner's handle; 404 when missing or private to someone else."""
+    return store.fetch_readable(session, SavedEvaluationRow, item_id, principal, LABEL)
+
+
+def saved_components(row: SavedEvaluationRow) -> tuple[list[Any], ...]:
+    """The components the saved answer was computed from, as calculator models."""
+    copies = row.spec["components"]
+    return tuple(
+        [None if c is None else MODELS[kind].model_validate(c) for c in copies[LISTS[kind]]]
+        for kind in AXES
+    )
+
+
+def _retired(item: Any) -> bool:
+    # Retiring equipment is planned (club operations); honour it wherever the table grows the column.
+    return bool(getattr(item, "retired_at", None) or getattr(item, "retired", False))
+
+
+def stored_equipment(session: Session, row: SavedEvaluationRow, principal: Principal | None
+                     ) -> tuple[list[StoredEntry], dict[tuple[str, int], Any]]:
+    """Each stored entry with its status now, and the current model of each one still usable."""
+    entries, current = [], {}
+    by_kind: dict[str, list[dict]] = {}
+    for entry in row.spec.get("stored", []):
+        by_kind.setdefault(entry["kind"], []).append(entry)
+    copies = row.spec["components"]
+    for kind, wanted in by_kind.items():
+        table = TABLES[kind]
+        found = {item.id: item for item in session.exec(
+            select(table).where(table.id.in_({e["id"] for e in wanted}), store.readable_by(table, principal))
+        ).all()}
+        for entry in wanted:
+            saved = copies[LISTS[kind]][entry["index"]]
+            item = found.get(entry["id"])
+            status, changed, model = "gone", [], None
+            if item is not None and _retired(item):
+                status = "retired"
+            elif item is not None:
+                try:
+                    model = MODELS[kind].model_validate(item.spec)
+                except ValidationError:
+                    model = None  # unreadable under today's schema: the saved copy stands in
+                if model is not None:
+                    now = model.model_dump(mode="json", exclude_none=True)
+                    changed = sorted(k for k in {*now, *saved} if now.get(k) != saved.get(k))
+                    status = "changed" if changed else "unchanged"
+                    current[(kind, entry["index"])] = model
+            entries.append(StoredEntry(kind=kind, index=entry["index"], id=entry["id"],
+                                       name=saved.get("name"), status=status, changed_fields=changed))
+    entries.sort(key=lambda e: (AXES.index(e.kind), e.index))
+    return entries, current
+
+
+def public(row: SavedEvaluationRow, owner: str, entries: list[StoredEntry]) -> SavedEvaluationPublic:
+    return SavedEvaluationPublic(
+        id=row.id, owner=owner, name=row.name, visibility=row.visibility, version=row.version,
+        created_at=store.aware(row.created_at), updated_at=store.aware(row.updated_at),
+        report_url=report_path(row.id), request=row.spec["request"], stored_equipment=entries,
+        result=EvaluationResult.model_validate(row.result),
+    )
+
+
+def saved_request(row: SavedEvaluationRow) -> EvaluationRequest:
+    """The saved request, validated again (422 naming the field if today's schema refuses it)."""
+    try:
+        return EvaluationRequest.model_validate(row.spec["request"])
+    except ValidationError as exc:
+        raise from_validation_error(exc, prefix=("request",)) from None
+
+
+def saved_spec(row: SavedEvaluationRow) -> EvaluationRequest:
+    """The saved request with the params its answer was computed with (what the report draws from)."""
+    request = saved_request(row)
+    params = row.spec.get("params")
+    return request if params is None else request.model_copy(update={"params": params})
+
+
+# --- re-running -----------------------------------------------------------------------------------
+
+def rerun_components(row: SavedEvaluationRow, current: dict[tuple[str, int], Any]):
+    """Today's equipment where it is still readable and in service, the saved copy elsewhere; and
+    the stored id of each entry (None for inline ones)."""
+    lists = saved_components(row)
+    for (kind, index), model in current.items():
+        lists[AXES.index(kind)][index] = model
+    ids = {kind: [None] * len(items) for kind, items in zip(AXES, lists)}
+    for entry in row.spec.get("stored", []):
+        ids[entry["kind"]][entry["index"]] = entry["id"]
+    return lists, ids
+
+
+def changes(saved: EvaluationResult, now: EvaluationResult) -> AnswerChanges:
+    def key(row) -> tuple[int, ...]:
+        return tuple(getattr(row.indices, kind) for kind in AXES)
+
+    before = {key(r): r for r in [*saved.front, *saved.top]}
+    after = {key(r): r for r in [*now.front, *now.top]}
+    front_before = [key(r) for r in saved.front]
+    front_after = [key(r) for r in now.front]
+    moved = []
+    for k in sorted(before.keys() & after.keys()):
+        for name in sorted(before[k].values.keys() & after[k].values.keys()):
+            a, b = before[k].values[name], after[k].values[name]
+            if a != b and len(moved) < MAX_VALUE_CHANGES:
+                moved.append(ValueChange(indices=before[k].indices, key=name, saved=a, now=b))
+
+    def indices(keys) -> list[Indices]:
+        return [Indices(**dict(zip(AXES, k))) for k in keys]
+
+    was, is_now = set(front_before), set(front_after)
+    return AnswerChanges(
+        evaluated=(saved.evaluated, now.evaluated), feasible=(saved.feasible, now.feasible),
+        front_added=indices(k for k in front_after if k not in was),
+        front_removed=indices(k for k in front_before if k not in is_now),
+        best_saved=saved.top[0].indices if saved.top else None,
+        best_now=now.top[0].indices if now.top else None,
+        values=moved,
+    )

@@ -1,0 +1,223 @@
+"""api/evaluations/saved.py and saved_routes.py: saving an evaluation, reading it back, who may read
+it, stored equipment that changed, was deleted or went private, and re-running it.
+
+The reference for a saved answer is the unsaved route: the same body sent to ``POST
+/v1/evaluations`` must give the same answer the saved evaluation keeps.
+"""
+
+from __future__ import annotations
+
+import csv
+import io
+
+import pytest
+from rigbench_testing import assert_problem
+from test_evaluations import CAMERAS, MODIFIERS, MOUNTS, TELESCOPES, request
+
+from api.evaluations.saved import MAX_VALUE_CHANGES
+
+
+def saved_body(**changes):
+    return {**request(), "name": "first imaging rig", **changes}
+
+
+def save(client, account, **changes):
+    response = client.post("/v1/evaluations/saved", json=saved_body(**changes), headers=account.headers)
+    assert response.status_code == 201, response.text
+    return response.json()
+
+
+def stored(client, account, kind, body, visibility="private"):
+    response = client.post(f"/v1/{kind}", json={**body, "visibility": visibility}, headers=account.headers)
+    assert response.status_code == 201, response.text
+    return response.json()["id"]
+
+
+def test_a_saved_evaluation_keeps_the_answer_the_route_gives_with_its_id_and_report_url(client, alice):
+    evaluation = save(client, alice)
+    assert evaluation["id"] >= 1
+    assert evaluation["report_url"] == f"/evaluations/{evaluation['id']}"
+    assert evaluation["owner"] == "alice" and evaluation["visibility"] == "private"
+    fresh = client.post("/v1/evaluations", json=request()).json()
+    assert evaluation["result"] == fresh
+    again = client.get(f"/v1/evaluations/saved/{evaluation['id']}", headers=alice.headers)
+    assert again.status_code == 200
+    assert again.json()["result"] == fresh and again.json()["id"] == evaluation["id"]
+    assert again.json()["stored_equipment"] == []
+
+
+def test_the_location_header_and_the_csv_name_the_same_answer(client, alice):
+    response = client.post("/v1/evaluations/saved", json=saved_body(), headers=alice.headers)
+    assert response.headers["location"] == f"/v1/evaluations/saved/{response.json()['id']}"
+    table = client.get(response.headers["location"] + "?format=csv", headers=alice.headers)
+    assert table.headers["content-type"].startswith("text/csv")
+    rows = list(csv.DictReader(io.StringIO(table.text)))
+    assert sum(r["set"] == "front" for r in rows) == len(response.json()["result"]["front"])
+    same = client.post("/v1/evaluations", json=request(), headers={"Accept": "text/csv"})
+    assert table.text == same.text
+
+
+def test_a_private_evaluation_is_a_404_for_everyone_but_its_owner(client, alice, bob):
+    item = save(client, alice)
+    path = f"/v1/evaluations/saved/{item['id']}"
+    for headers in ({}, bob.headers):
+        body = assert_problem(client.get(path, headers=headers), 404)
+        assert "alice" not in body["detail"]
+        assert_problem(client.post(f"{path}/rerun", headers=headers), 404)
+        page = client.get(item["report_url"], headers={**headers, "Accept": "text/html"})
+        assert page.status_code == 404 and "first imaging rig" not in page.text
+        assert client.get(f"{item['report_url']}/trade-off.svg", headers=headers).status_code == 404
+    missing = assert_problem(client.get("/v1/evaluations/saved/999999", headers=bob.headers), 404)
+    assert missing["detail"].replace("999999", str(item["id"])) == body["detail"]  # the same words
+    assert client.get(item["report_url"], headers=alice.headers).status_code == 200
+
+
+def test_a_public_evaluation_and_its_report_are_readable_without_a_key(client, alice):
+    item = save(client, alice, visibility="public")
+    assert client.get(f"/v1/evaluations/saved/{item['id']}").json()["result"] == item["result"]
+    page = client.get(item["report_url"])
+    assert page.status_code == 200 and page.headers["content-type"].startswith("text/html")
+    assert "script-src" not in page.headers["content-security-policy"]
+    assert page.text.count('data-front="true"') == len(item["result"]["front"])
+    assert page.text.count('class="sheet"') == len(item["result"]["top"])
+    assert f'href="/v1/evaluations/saved/{item["id"]}?format=csv"' in page.text
+    svg = client.get(f"{item['report_url']}/trade-off.svg")
+    assert svg.headers["content-type"] == "image/svg+xml" and svg.text.startswith("<?xml")
+    assert client.get(f"{item['report_url']}/objectives.svg").status_code == 404  # two objectives only
+    assert client.get("/evaluations/report.css").headers["content-type"].startswith("text/css")
+
+
+def test_saving_needs_a_read_write_key(client, make_account):
+    assert_problem(client.post("/v1/evaluations/saved", json=saved_body()), 401)
+    reader = make_account("reader", scope="read")
+    assert_problem(client.post("/v1/evaluations/saved", json=saved_body(), headers=reader.headers), 403)
+
+
+@pytest.mark.parametrize(("changes", "field"), [
+    ({"visibility": "everyone"}, "visibility"),
+    ({"name": ""}, "name"),
+    ({"name": "a\x00b"}, "name"),
+    ({"objectives": {"cost.no_such_output": "min"}}, "objectives.cost.no_such_output"),
+    ({"telescopes": [{"id": 424242}]}, "telescopes.0.id"),
+])
+def test_bad_saves_are_problems_naming_the_field_and_store_nothing(client, alice, changes, field):
+    assert_problem(client.post("/v1/evaluations/saved", json=saved_body(**changes), headers=alice.headers),
+                   422, field)
+    assert_problem(client.get("/v1/evaluations/saved/1", headers=alice.headers), 404)
+
+
+def test_a_missing_name_is_refused(client, alice):
+    body = saved_body()
+    del body["name"]
+    assert_problem(client.post("/v1/evaluations/saved", json=body, headers=alice.headers), 422, "name")
+
+
+def test_too_many_combinations_are_refused_before_anything_is_stored(app, client, alice):
+    app.state.settings.max_combinations = 10
+    assert_problem(client.post("/v1/evaluations/saved", json=saved_body(), headers=alice.headers), 422,
+                   "telescopes")
+
+
+@pytest.mark.parametrize("item_id", ["0", "abc", "9" * 30, "-1"])
+def test_a_report_for_a_bad_id_is_a_404_page(client, item_id):
+    page = client.get(f"/evaluations/{item_id}", headers={"Accept": "text/html"})
+    assert page.status_code == 404 and "Traceback" not in page.text
+    assert_problem(client.get(f"/evaluations/{item_id}", headers={"Accept": "application/json"}), 404)
+
+
+def test_the_api_refuses_an_id_out_of_range(client):
+    assert_problem(client.get("/v1/evaluations/saved/0"), 422)
+
+
+def without_ids(result: dict) -> dict:
+    def strip(row):
+        return {k: v for k, v in row.items() if k != "ids"}
+    return {**result, "front": [strip(r) for r in result["front"]], "top": [strip(r) for r in result["top"]],
+            "baseline": strip(result["baseline"])}
+
+
+def _with_stored_telescope(client, alice, visibility="private"):
+    scope_id = stored(client, alice, "telescopes", TELESCOPES[0], visibility)
+    body = saved_body(telescopes=[{"id": scope_id}, *TELESCOPES[1:]])
+    response = client.post("/v1/evaluations/saved", json=body, headers=alice.headers)
+    assert response.status_code == 201, response.text
+    return scope_id, response.json()
+
+
+def test_a_deleted_telescope_leaves_the_saved_answer_shown_and_marked(client, alice):
+    scope_id, item = _with_stored_telescope(client, alice)
+    assert item["stored_equipment"] == [{"kind": "telescope", "index": 0, "id": scope_id,
+                                         "name": TELESCOPES[0]["name"], "status": "unchanged",
+                                         "changed_fields": []}]
+    assert client.delete(f"/v1/telescopes/{scope_id}", headers=alice.headers).status_code == 204
+    again = client.get(f"/v1/evaluations/saved/{item['id']}", headers=alice.headers).json()
+    assert again["result"] == item["result"]
+    assert again["stored_equipment"][0]["status"] == "gone"
+    page = client.get(item["report_url"], headers=alice.headers)
+    assert page.status_code == 200
+    assert "Equipment changed since this was saved" in page.text and 'data-status="gone"' in page.text
+    assert page.text.count('data-front="true"') == len(item["result"]["front"])
+    # The copy stands in: the re-run has the same answer, since nothing else changed.
+    rerun = client.post(f"/v1/evaluations/saved/{item['id']}/rerun", headers=alice.headers).json()
+    assert rerun["result"] == item["result"]
+    assert rerun["changes"]["front_added"] == [] and rerun["changes"]["values"] == []
+
+
+def test_equipment_gone_private_reads_as_gone_for_others_only(client, alice, bob):
+    scope_id, _item = _with_stored_telescope(client, alice, visibility="public")
+    assert client.patch(f"/v1/telescopes/{scope_id}", json={"visibility": "private"},
+                        headers=alice.headers).status_code == 200
+    # The saved evaluation is private to alice; a public one shows its copy to anyone.
+    public = save(client, alice, visibility="public", telescopes=[{"id": scope_id}, *TELESCOPES[1:]])
+    assert client.get(f"/v1/evaluations/saved/{public['id']}").json()["stored_equipment"][0]["status"] == "gone"
+    assert client.get(f"/v1/evaluations/saved/{public['id']}",
+                      headers=alice.headers).json()["stored_equipment"][0]["status"] == "unchanged"
+    assert client.get(public["report_url"], headers=bob.headers).status_code == 200
+
+
+def test_a_rerun_after_a_price_change_says_what_changed(client, alice):
+    scope_id, item = _with_stored_telescope(client, alice)
+    patched = client.patch(f"/v1/telescopes/{scope_id}", json={"price": {"amount": 60, "currency": "EUR"}},
+                           headers=alice.headers)
+    assert patched.status_code == 200, patched.text
+    rerun = client.post(f"/v1/evaluations/saved/{item['id']}/rerun", headers=alice.headers)
+    assert rerun.status_code == 200, rerun.text
+    answer = rerun.json()
+    assert answer["stored_equipment"][0]["status"] == "changed"
+    assert answer["stored_equipment"][0]["changed_fields"] == ["price"]
+    # The same body with the new price inline is the reference for the new answer.
+    reference = client.post("/v1/evaluations", json=request(telescopes=[
+        {**TELESCOPES[0], "price": {"amount": 60, "currency": "EUR"}}, *TELESCOPES[1:]])).json()
+    assert without_ids(answer["result"]) == without_ids(reference)
+    assert all(r["ids"]["telescope"] == (scope_id if r["indices"]["telescope"] == 0 else None)
+               for r in answer["result"]["front"])
+    changes = answer["changes"]
+    price_changes = [c for c in changes["values"] if c["key"] == "cost.total_price"]
+    assert price_changes and all(c["indices"]["telescope"] == 0 for c in price_changes)
+    assert all(c["saved"] - c["now"] == pytest.approx(600 - 60) for c in price_changes)
+    assert len(changes["values"]) <= MAX_VALUE_CHANGES
+    was = {tuple(r["indices"].values()) for r in item["result"]["front"]}
+    now = {tuple(r["indices"].values()) for r in answer["result"]["front"]}
+    assert {tuple(i.values()) for i in changes["front_added"]} == now - was
+    assert {tuple(i.values()) for i in changes["front_removed"]} == was - now
+    # Nothing is stored by a re-run.
+    assert client.get(f"/v1/evaluations/saved/{item['id']}", headers=alice.headers).json()["result"] == item["result"]
+    page = client.get(item["report_url"], headers=alice.headers)
+    assert 'data-status="changed"' in page.text and "price" in page.text
+
+
+def test_the_components_kept_are_copies_of_what_was_computed(client, alice):
+    item = save(client, alice)
+    assert item["request"]["cameras"] == CAMERAS and item["request"]["mounts"] == MOUNTS
+    assert item["request"]["modifiers"] == MODIFIERS
+
+
+def test_a_site_fills_the_params_as_in_the_unsaved_route_and_the_page_names_it(client, alice):
+    site = {"name": "hill top", "seeing_fwhm_arcsec": 3.5, "sky_brightness_mag_arcsec2": 19.5}
+    item = save(client, alice, site=site)
+    reference = client.post("/v1/evaluations", json=request(site=site)).json()
+    assert item["result"] == reference
+    page = client.get(item["report_url"], headers=alice.headers)
+    assert page.status_code == 200 and 'id="site"' in page.text and "hill top" in page.text
+    rerun = client.post(f"/v1/evaluations/saved/{item['id']}/rerun", headers=alice.headers).json()
+    assert rerun["result"] == reference and rerun["changes"]["values"] == []
