@@ -20,11 +20,13 @@ from starlette.concurrency import run_in_threadpool
 from api import tuning
 from api.accounts import routes as accounts
 from api.clubs import page as club_page
+from api.clubs import loan_routes, member_routes
 from api.clubs import routes as clubs
 from api.comparisons import routes as comparisons
+from api.comparisons.fast_lane import ComparisonFastLane
 from api.discovery import calculators
 from api.discovery import plugins as plugins_routes
-from api.equipment import cameras, modifiers, mounts, rigs, telescopes
+from api.equipment import cameras, modifiers, mounts, retire, rigs, telescopes
 from api.evaluations import pages as evaluation_pages
 from api.evaluations import routes as evaluations
 from api.evaluations import saved_routes as saved_evaluations
@@ -56,6 +58,8 @@ near the Sun without a proper full-aperture solar filter.
 ROUTERS = (
     health, comparisons, calculators, plugins_routes, accounts, telescopes, cameras, modifiers,
     mounts, rigs, sites, default_site, evaluations, saved_evaluations, evaluation_pages, clubs, club_page,
+    # club operations (issue 13)
+    retire, member_routes, loan_routes,
 )
 
 
@@ -72,6 +76,7 @@ def create_app(settings: Settings | None = None) -> FastAPI:
             db.upgrade_if_behind(app.state.engine)
         elif warning := await run_in_threadpool(db.schema_warning, app.state.engine):
             log.warning(warning)
+        tuning.freeze_start_up_objects()  # full collections then skip what start-up built (api.tuning)
         yield
         app.state.engine.dispose()
 
@@ -95,6 +100,8 @@ def create_app(settings: Settings | None = None) -> FastAPI:
     problems.install(app)
     for module in ROUTERS:
         app.include_router(module.router)
+    # Innermost: anonymous JSON comparisons skip FastAPI's request machinery (api.comparisons.fast_lane).
+    app.add_middleware(ComparisonFastLane)
     app.add_middleware(BodySizeLimit, max_bytes=settings.max_body_bytes)
     if settings.cors_origins:
         app.add_middleware(

@@ -11,6 +11,7 @@ import argparse
 import sys
 from collections.abc import Callable, Sequence
 
+from api.clubs.cli import add_clubs
 from api.evaluations.command import add_evaluate
 from api.settings import Settings
 
@@ -161,7 +162,7 @@ def add_openapi(subparsers: argparse._SubParsersAction) -> None:
 
 
 COMMANDS: list[Callable[[argparse._SubParsersAction], None]] = [
-    add_serve, add_accounts, add_db, add_openapi, add_evaluate,
+    add_serve, add_accounts, add_db, add_openapi, add_evaluate, add_clubs,
 ]
 
 

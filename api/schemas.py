@@ -55,7 +55,8 @@ def slot(model: type[BaseModel]) -> Any:
 
 Visible = Annotated[
     Visibility,
-    Field(description="private: only the owner sees it; public: anyone may read it without a key."),
+    Field(description="private: only the owner (and a club's officers) see it; public: anyone may read it "
+          "without a key; members: a club's members and officers."),
 ]
 
 
@@ -75,6 +76,9 @@ class ItemMeta(BaseModel):
     version: int = Field(description="Starts at 1, grows by one on each change; the ETag carries it.")
     created_at: datetime
     updated_at: datetime
+    retired_at: datetime | None = Field(
+        default=None, description="When its owner retired it (gone from lists, new rigs and loans); null if in use."
+    )
     invalid: bool = Field(
         default=False,
         description="True when the stored item no longer meets the current schema (limits tightened "
@@ -166,11 +170,25 @@ RigUpdate = create_model(
 )
 
 
+class CopiedPart(BaseModel):
+    """A part the rig holds as a copy, because its owner retired the item or made it private."""
+
+    slot: str
+    kind: str = Field(description="Kind of the item the copy was taken from, e.g. 'telescopes'.")
+    id: int = Field(description="Id of the item the copy was taken from.")
+    reason: str = Field(description="'retired' or 'made private'.")
+    taken_at: datetime
+
+
 class RigPublic(ItemMeta, RigSlots):
     model_config = ConfigDict(extra="ignore")
 
     resolved: Rig = Field(description="The rig with every stored component filled in (as stored, "
                           "when `invalid`).")
+    copied_parts: list[CopiedPart] = Field(
+        default_factory=list, description="Parts kept as a copy of a retired or now-private item."
+    )
+    uses_retired_equipment: bool = Field(default=False, description="A part is a copy of retired equipment.")
 
 
 class RigList(ListMeta):
@@ -201,11 +219,13 @@ class Me(AccountPublic):
 # --- calculators ----------------------------------------------------------------------------------
 
 class OutputPublic(BaseModel):
-    name: str
+    name: str = Field(description="Output name, the key in results (a contract).")
+    label: str = Field(description="Short name for a person, e.g. 'Pixel scale'; shown with the unit.")
     unit: str = Field(description="pint-readable unit; '' when dimensionless.")
-    description: str
-    kind: str
-    nullable: bool
+    description: str = Field(description="What the figure is, with its formula.")
+    kind: str = Field(description="number, text or boolean.")
+    integer: bool = Field(description="A count: whole numbers.")
+    nullable: bool = Field(description="May be null where an optional input is missing.")
     relative: bool = Field(description="Depends on the baseline rig.")
 
 

@@ -7,7 +7,7 @@ A calculator is a class with a few declarations and one method::
         version = "1.0.0"
         summary = "Effective focal ratio and relative exposure times."
         Params = SpeedParams                # a pydantic model whose fields all have defaults
-        outputs = (Output("focal_ratio", "", "Effective focal ratio N = f/D."), ...)
+        outputs = (Output("focal_ratio", "", "Effective focal ratio N = f/D.", label="Focal ratio"), ...)
         sources = ("Author, Title, year, section",)
         cautions = ()                       # optional, shown with every result
         renamed_outputs = {}                # optional: old output name -> new, still accepted
@@ -35,9 +35,33 @@ from calculators.batch import RigBatch
 from calculators.schemas import Strict
 
 
+# Name endings that spell a unit (the unit itself is shown beside the label).
+_UNIT_ENDINGS = {
+    "mm", "mm2", "um", "nm", "m", "m2", "kg", "g", "arcsec", "arcmin", "deg", "deg2", "c", "k", "w",
+    "n", "nm", "s", "minutes", "px", "e", "kg_m2", "m2_deg2", "m2_arcsec2", "cm2", "cm2_deg2",
+}
+
+
+def derived_label(name: str) -> str:
+    """A label from an output's name, for a third-party output that declares none:
+    ``"heating_power_w"`` -> ``"Heating power"`` (a trailing unit is dropped, underscores are spaces)."""
+    words = name.split("_")
+    for cut in (3, 2, 1):
+        if len(words) > cut and "_".join(words[-cut:]) in _UNIT_ENDINGS:
+            words = words[:-cut]
+            break
+    text = " ".join(words)
+    return text[:1].upper() + text[1:]
+
+
 @dataclass(frozen=True)
 class Output:
-    """One declared output of a calculator."""
+    """One declared output of a calculator.
+
+    ``label`` is what a person reads in a table header ("Pixel scale"), shown with the unit beside
+    it; built-in calculators must give one, a third-party output without one is shown with a label
+    derived from its name (:func:`derived_label`). ``integer`` marks a count (shown without decimals).
+    """
 
     name: str
     unit: str  # pint-readable unit ("mm^2", "arcsec", "kg"); "" when dimensionless
@@ -45,6 +69,13 @@ class Output:
     kind: Literal["number", "text", "boolean"] = "number"
     nullable: bool = False  # may be null (NaN) where an optional input is missing
     relative: bool = False  # depends on the baseline rig
+    label: str | None = None  # short human label, e.g. "Pixel scale"; None: derived from the name
+    integer: bool = False  # a count: whole numbers
+
+    @property
+    def shown_label(self) -> str:
+        """The declared label, or one derived from the name."""
+        return self.label if self.label else derived_label(self.name)
     # Batch columns the output cannot do without: where one is missing (NaN) for a rig, the answer
     # says so as the reason for that rig's null (see plugins.null_reasons).
     needs: tuple[str, ...] = ()

@@ -115,6 +115,9 @@ class EvaluationResult(BaseModel):
     baseline: EvaluationRow = Field(description="The baseline combination, feasible or not.")
     baseline_feasible: bool
     units: dict[str, str] = Field(description='Unit of each value key ("" when dimensionless).')
+    labels: dict[str, str] = Field(
+        default_factory=dict, description="Short name for a person of each value key, e.g. 'Pixel scale'."
+    )
     cautions: dict[str, list[str]] = Field(
         default_factory=dict, description="Cautions of the calculators used, by calculator."
     )

@@ -69,12 +69,14 @@ def compare(
     for name, calc in chosen.items():
         outcome = run(calc, batch, parsed[name])
         units = outcome.units
+        labels = {o.name: o.shown_label for o in calc.outputs}
         values = {out: to_json_values(v) for out, v in outcome.values.items()}
         reasons = explain(calc, batch, parsed[name], values)
         results[name] = {
             "version": calc.version,
             "outputs": {
-                out: {"unit": units[out], "values": v, "null_reasons": reasons.get(out)}
+                out: {"label": labels.get(out, out), "unit": units[out], "values": v,
+                      "null_reasons": reasons.get(out)}
                 for out, v in values.items()
             },
             "cautions": list(calc.cautions),

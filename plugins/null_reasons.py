@@ -20,7 +20,6 @@ Reasons are worked out only for outputs that have a null, so a comparison withou
 from __future__ import annotations
 
 import copy
-import math
 from collections.abc import Mapping, Sequence
 from typing import Any
 
@@ -92,18 +91,43 @@ def columns_read(calculator: Calculator, batch: RigBatch, params: Any) -> frozen
     return found
 
 
-def _missing(batch: RigBatch, column: str, row: int) -> bool:
+def _missing_flags(batch: RigBatch, column: str) -> list[bool] | None:
+    """Which rigs lack ``column`` (NaN in a float column), worked out once per batch and column."""
+    store = getattr(batch, "derived", None)
+    key = f"{__name__}.missing.{column}"
+    if store is not None and key in store:
+        return store[key]
     values = batch.columns.get(column)
     if values is None:
+        flags = None
+    else:
+        flat = np.asarray(values).reshape(-1)
+        flags = np.isnan(flat).tolist() if flat.dtype.kind == "f" else [False] * flat.size
+    if store is not None:
+        store[key] = flags
+    return flags
+
+
+def _missing(batch: RigBatch, column: str, row: int) -> bool:
+    flags = _missing_flags(batch, column)
+    if not flags:
         return False
-    value = np.asarray(values).reshape(-1)
-    value = value[row] if value.size > 1 else value[0]
-    if isinstance(value, np.floating | float):
-        return math.isnan(value)
-    return False
+    return flags[row] if len(flags) > 1 else flags[0]
 
 
 def _from_columns(batch: RigBatch, columns: Sequence[str], row: int) -> str | None:
+    # Outputs of one calculator mostly share their columns: each (columns, row) is worked out once.
+    store = getattr(batch, "derived", None)
+    if store is None:
+        return _sentence(batch, columns, row)
+    memo = store.setdefault(f"{__name__}.from_columns", {})
+    key = (tuple(columns), row)
+    if key not in memo:
+        memo[key] = _sentence(batch, columns, row)
+    return memo[key]
+
+
+def _sentence(batch: RigBatch, columns: Sequence[str], row: int) -> str | None:
     if CAMERA_MARK in columns and _missing(batch, CAMERA_MARK, row):
         return NO_CAMERA
     missing = [COLUMN_FIELDS.get(c, c) for c in columns if _missing(batch, c, row)]

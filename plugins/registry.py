@@ -156,7 +156,11 @@ def check_unit(unit: object) -> None:
         raise ValueError(f"unit {unit!r} is not one pint can read (e.g. 'mm', 'arcsec', 'kg', 'W')") from None
 
 
-def _check_output(output: object, index: int) -> None:
+#: Longest output label: a table header, not a sentence.
+LABEL_MAX = 40
+
+
+def _check_output(output: object, index: int, require_label: bool = False) -> None:
     if not isinstance(output, Output):
         raise ContractError(
             f"outputs[{index}] is a {type(output).__name__}, not a calculators.base.Output"
@@ -172,6 +176,12 @@ def _check_output(output: object, index: int) -> None:
         raise ContractError(f"{where}: description must be a non-empty string")
     if output.kind not in OUTPUT_KINDS:
         raise ContractError(f"{where}: kind {output.kind!r} is not one of {', '.join(OUTPUT_KINDS)}")
+    if output.label is not None and (
+        not isinstance(output.label, str) or not output.label.strip() or len(output.label) > LABEL_MAX
+    ):
+        raise ContractError(f"{where}: label must be a non-empty string of at most {LABEL_MAX} characters")
+    if require_label and output.label is None:
+        raise ContractError(f"{where}: a built-in output needs a label (e.g. label=\"Pixel scale\")")
 
 
 def _check_strings(calculator: Calculator, attr: str, *, required: bool) -> None:
@@ -208,15 +218,17 @@ def _check_params(calculator: Calculator) -> None:
         raise ContractError(f"Params defaults do not validate: {exc}") from None
 
 
-def validate(calculator: object) -> None:
+def validate(calculator: object, *, require_labels: bool = False) -> None:
     """Raise :class:`ContractError` naming the first way ``calculator`` breaks the contract.
 
     Checked: it is a :class:`~calculators.base.Calculator`; ``name`` is lower_snake_case;
     ``version`` is a PEP 440 version; ``summary`` is one non-empty line; ``outputs`` is a non-empty
     tuple of :class:`~calculators.base.Output` with unique lower_snake_case names, units pint can
-    read and known kinds; ``Params`` is a pydantic model whose fields all have valid defaults;
-    ``renamed_outputs`` maps old names to declared outputs; ``compute`` and ``output_units`` are callable; ``sources`` is non-empty and ``cautions`` a
-    tuple of strings.
+    read, known kinds and labels of at most 40 characters (required with ``require_labels``, as for
+    the built-ins; a plugin's output without one is shown with a label derived from its name);
+    ``renamed_outputs`` maps old names to declared outputs; ``Params`` is a pydantic model whose
+    fields all have valid defaults; ``compute`` and ``output_units`` are callable; ``sources`` is
+    non-empty and ``cautions`` a tuple of strings.
     """
     if not isinstance(calculator, Calculator):
         raise ContractError(
@@ -237,7 +249,7 @@ def validate(calculator: object) -> None:
     if not isinstance(outputs, (tuple, list)) or not outputs:
         raise ContractError("outputs must be a non-empty tuple of calculators.base.Output")
     for index, output in enumerate(outputs):
-        _check_output(output, index)
+        _check_output(output, index, require_labels)
     names = [o.name for o in outputs]
     duplicates = sorted({n for n in names if names.count(n) > 1})
     if duplicates:
@@ -324,7 +336,7 @@ one comma-separated string); they are not even imported.
             continue
         try:
             calculator = _instantiate(ep.load())
-            validate(calculator)
+            validate(calculator, require_labels=entry.builtin)
             if calculator.name != ep.name:
                 raise ContractError(
                     f"the entry point is named {ep.name!r} but the calculator's name is "

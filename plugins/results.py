@@ -10,6 +10,7 @@ Value = float | str | bool | None
 
 
 class OutputValues(BaseModel):
+    label: str = Field(default="", description="Short name for a person, e.g. 'Pixel scale'.")
     unit: str = Field(description="Unit of every value (pint-readable; '' when dimensionless).")
     values: list[Value] = Field(description="One value per rig, in request order; null where undefined.")
     null_reasons: list[str | None] | None = Field(

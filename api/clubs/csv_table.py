@@ -55,9 +55,10 @@ def equipment_csv(equipment: ClubEquipment) -> str:
     for path, resource in EQUIPMENT:
         for item in getattr(equipment, path):
             flat = _flatten(item.model_dump(mode="json"))
-            rows.append([resource.label, item.id, item.name, *(flat.get(c) for c in columns)])
+            rows.append([resource.label, item.id, item.name, item.availability.value, item.due,
+                         *(flat.get(c) for c in columns)])
     # "equipment", not "kind": a modifier has a field of that name.
-    return records_csv(["equipment", "id", "name", *columns], rows)
+    return records_csv(["equipment", "id", "name", "availability", "due", *columns], rows)
 
 
 RIG_COLUMNS = [

@@ -134,7 +134,8 @@ def club_page(
     return _html(
         "club.html",
         club=club, comparison=result, embed=(embed or "").lower() in {"1", "true", "yes"}, page_url=page_url,
-        table=club_view.comparison_table(result), figures=club_view.all_figures(result),
+        table=club_view.comparison_table(result),
+        figures=club_view.all_figures(result, counts=club_view.counts(request.app.state.registry)),
         fields=Markup(club_view.fields_picture(result) or ""), bars=Markup(club_view.bars_picture(result) or ""),
         equipment=club_view.equipment_tables(equipment), complete=equipment.complete,
         rigs=club_view.rigs_table(rigs), cautions=CAUTIONS, calculator_cautions=club_view.cautions(result),

@@ -14,6 +14,7 @@ from collections.abc import Mapping
 from sqlalchemy import func
 from sqlmodel import Session, select
 
+from api.accounts.keys import Principal
 from api.clubs.schemas import ClubComparison, ClubEquipment, ClubPublic
 from api.equipment import rules as resources
 from api.http.problems import ApiProblem, FieldError
@@ -72,14 +73,12 @@ def _public(session: Session, table: Any, club: Account, limit: int, offset: int
                       limit=limit, offset=offset)
 
 
-def equipment(session: Session, club: Account, limit: int) -> ClubEquipment:
-    """Up to ``limit`` public items of each kind, oldest first."""
-    lists: dict[str, list[Any]] = {}
-    complete = True
-    for path, resource in EQUIPMENT:
-        rows, total = _public(session, resource.table, club, limit)
-        lists[path] = resource.present(session, rows)
-        complete = complete and total <= len(rows)
+def equipment(session: Session, club: Account, limit: int, caller: Principal | None = None) -> ClubEquipment:
+    """Up to ``limit`` items of each kind, oldest first, with availability (api.clubs.shelf says who sees what)."""
+    from api.clubs import shelf
+    from api.clubs.schemas import SHELF
+
+    lists, complete = shelf.items(session, club, EQUIPMENT, limit, caller, SHELF)
     return ClubEquipment(club=club.name, complete=complete, **lists)
 
 

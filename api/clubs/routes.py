@@ -1,6 +1,7 @@
 """`/v1/clubs`: public, read-only views of club accounts, for club web sites and spreadsheets.
 
-No key needed, and a key changes nothing: these views show only club profiles and public items. Lists
+No key needed: these views show club profiles and public items. On the equipment view a key of the
+club's members or officers shows more (see api.clubs.shelf). Lists
 and the comparison answer CSV to ``Accept: text/csv`` or ``?format=csv`` (a plain link cannot set a
 header, and spreadsheets import from a URL).
 """
@@ -14,7 +15,7 @@ from api.clubs import queries as clubs
 from api.clubs.csv_table import clubs_csv, equipment_csv, rigs_csv
 from api.clubs.schemas import ClubComparison, ClubEquipment, ClubList, ClubPublic
 from api.comparisons.csv_table import comparison_csv
-from api.deps import RegistryDep, SessionDep, SettingsDep
+from api.deps import Caller, RegistryDep, SessionDep, SettingsDep
 from api.http import problems
 from api.http.negotiation import prefers_csv
 from api.schemas import HANDLE_PATTERN, MAX_ID, RigList
@@ -77,14 +78,18 @@ def get_club(name: ClubName, session: SessionDep) -> ClubPublic:
 
 @router.get(
     "/{name}/equipment", response_model=ClubEquipment, operation_id="get_club_equipment",
-    summary="A club's public equipment",
+    summary="A club's equipment, each item available, on loan (with its due date) or retired",
+    description="Without a key, or with the key of someone outside the club: the public items in use, "
+    "never who borrowed them. The club's members also see members-only and retired items; its officers "
+    "see everything the club owns, the borrowers and overdue loans.",
     responses={**csv_response("The equipment; as CSV, one row per item, its kind in the first column."),
                **problems.responses(404, 422)},
 )
 def get_club_equipment(
-    name: ClubName, request: Request, session: SessionDep, settings: SettingsDep, format: Format = None,
+    name: ClubName, request: Request, session: SessionDep, settings: SettingsDep, caller: Caller,
+    format: Format = None,
 ):
-    found = clubs.equipment(session, clubs.find_club(session, name), settings.max_page_size)
+    found = clubs.equipment(session, clubs.find_club(session, name), settings.max_page_size, caller)
     if wants_csv(request, format):
         return as_csv(equipment_csv(found), f"{name}-equipment.csv")
     return found

@@ -4,8 +4,11 @@
 api.schemas and named here as values.)
 """
 
-from pydantic import BaseModel, Field
+from datetime import date
 
+from pydantic import BaseModel, Field, create_model
+
+from api.clubs.operation_schemas import Availability
 from api.schemas import CAMERA, MODIFIER, MOUNT, TELESCOPE, AccountPublic, ListMeta
 from plugins.results import Comparison
 
@@ -20,14 +23,30 @@ class ClubList(ListMeta):
     items: list[ClubPublic]
 
 
+def _on_the_shelf(public: type[BaseModel]) -> type[BaseModel]:
+    """A stored item of the club, with whether it can be borrowed now."""
+    return create_model(
+        f"Club{public.__name__}", __base__=public, __doc__=f"{public.__doc__} With its availability.",
+        availability=(Availability, Field(description="'available', 'on loan' or 'retired'.")),
+        due=(date | None, Field(default=None, description="When on loan: the day it is due back.")),
+        borrower=(str | None, Field(default=None, description="Who has it: shown only to the club's "
+                                    "officers and to the borrower; null for everyone else.")),
+        overdue=(bool | None, Field(default=None, description="Out past its due date (officers only).")),
+    )
+
+
+SHELF = {"telescopes": _on_the_shelf(TELESCOPE.public), "cameras": _on_the_shelf(CAMERA.public),
+         "modifiers": _on_the_shelf(MODIFIER.public), "mounts": _on_the_shelf(MOUNT.public)}
+
+
 class ClubEquipment(BaseModel):
-    """A club's public equipment, by kind, oldest first."""
+    """A club's equipment, by kind, oldest first, each item with its availability."""
 
     club: str = Field(description="Handle of the club.")
-    telescopes: list[TELESCOPE.public]
-    cameras: list[CAMERA.public]
-    modifiers: list[MODIFIER.public]
-    mounts: list[MOUNT.public]
+    telescopes: list[SHELF["telescopes"]]
+    cameras: list[SHELF["cameras"]]
+    modifiers: list[SHELF["modifiers"]]
+    mounts: list[SHELF["mounts"]]
     complete: bool = Field(
         description="False when a kind has more public items than the server's max_page_size; page "
         "through /v1/<kind>?owner=<club>&visibility=public for the rest."

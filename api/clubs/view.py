@@ -6,83 +6,40 @@ always agree. Cells keep the exact value (``data-value``) beside the rounded tex
 
 from __future__ import annotations
 
-import math
+from collections.abc import Collection
 from dataclasses import dataclass, field
 from typing import Any
 
 from api.clubs import pictures
+from api.display import data_value, header, number_text, unit_text
 from api.clubs.schemas import ClubComparison, ClubEquipment
 from calculators.builtin.catalogue import CREDIT, lookup
 from plugins.results import CalculatorResult
-
-# Units as a reader expects them in a header (pint spelling -> print spelling).
-UNIT_TEXT = {
-    "mm^2": "mm²", "arcsec": "″", "arcmin": "′", "deg": "°", "kg*m^2": "kg·m²", "N*m": "N·m",
-    "m^2*deg^2": "m²·deg²", "m^2*arcsec^2": "m²·arcsec²", "um": "µm", "1/s": "e⁻/s",
-}
-
 
 @dataclass(frozen=True)
 class Column:
     calculator: str
     output: str
-    heading: str
     unit: str | None = None  # None: the unit the API reports for the output
 
 
-# The comparison table: the figures most people compare first. Every figure is in the full table.
+# The comparison table: the figures most people compare first, headed by their labels. Every figure
+# is in the full table.
 COLUMNS = (
-    Column("speed", "effective_focal_length_mm", "Focal length"),
-    Column("speed", "focal_ratio", "Focal ratio", ""),
-    Column("light_grasp", "clear_area_mm2", "Clear area"),
-    Column("light_grasp", "area_ratio", "Light grasp", "× baseline"),
-    Column("speed", "time_factor_per_pixel", "Time per pixel", "× baseline"),
-    Column("speed", "time_factor_per_arcsec2", "Time per sky area", "× baseline"),
-    Column("sampling", "pixel_scale_arcsec", "Pixel scale", "″/pixel"),
-    Column("sampling", "field_width_arcmin", "Field width"),
-    Column("sampling", "field_height_arcmin", "Field height"),
-    Column("sampling", "sampling_verdict", "Sampling"),
-    Column("payload", "payload_kg", "Payload"),
-    Column("payload", "capacity_fraction", "Mount load", "× rating"),
-    Column("cost", "total_price", "Price"),
+    Column("speed", "effective_focal_length_mm"),
+    Column("speed", "focal_ratio"),
+    Column("light_grasp", "clear_area_mm2"),
+    Column("light_grasp", "area_ratio", "× baseline"),
+    Column("speed", "time_factor_per_pixel", "× baseline"),
+    Column("speed", "time_factor_per_arcsec2", "× baseline"),
+    Column("sampling", "pixel_scale_arcsec"),
+    Column("sampling", "field_width_arcmin"),
+    Column("sampling", "field_height_arcmin"),
+    Column("sampling", "sampling_verdict"),
+    Column("payload", "payload_kg"),
+    Column("payload", "capacity_fraction", "× rating"),
+    Column("cost", "total_price"),
 )
-
-
-def unit_text(unit: str) -> str:
-    return UNIT_TEXT.get(unit, unit)
-
-
-def header(heading: str, unit: str) -> str:
-    return f"{heading} [{unit}]" if unit else heading
-
-
-def number_text(value: Any) -> str:
-    """What a reader sees: three or four significant figures, yes/no, or a dash for no value."""
-    if value is None:
-        return "—"
-    if isinstance(value, bool):
-        return "yes" if value else "no"
-    if isinstance(value, str):
-        return value
-    if not math.isfinite(value):
-        return "—"
-    size = abs(value)
-    if size >= 100:
-        return f"{value:.0f}"
-    if size >= 10:
-        return f"{value:.1f}"
-    if size >= 1 or size == 0:
-        return f"{value:.2f}"
-    return f"{value:#.3g}"
-
-
-def data_value(value: Any) -> str:
-    """The exact value for the ``data-value`` attribute (JSON spelling)."""
-    if value is None:
-        return "null"
-    if isinstance(value, bool):
-        return "true" if value else "false"
-    return value if isinstance(value, str) else repr(float(value))
 
 
 @dataclass
@@ -130,8 +87,8 @@ def comparison_table(comparison: ClubComparison) -> Table:
                and c.output in comparison.results[c.calculator].outputs]
     headers = []
     for c in columns:
-        reported = comparison.results[c.calculator].outputs[c.output].unit
-        headers.append(header(c.heading, c.unit if c.unit is not None else unit_text(reported)))
+        data = comparison.results[c.calculator].outputs[c.output]
+        headers.append(header(data.label or c.output, c.unit if c.unit is not None else unit_text(data.unit)))
     rows = []
     for i, rig in enumerate(comparison.rigs):
         cells = []
@@ -144,23 +101,40 @@ def comparison_table(comparison: ClubComparison) -> Table:
 
 
 @dataclass
+class Figure:
+    """One row of a calculator's full table: the label a person reads, the key a script reads."""
+
+    heading: str
+    key: str
+    cells: list[Cell]
+
+
+@dataclass
 class FigureGroup:
     calculator: str
     version: str
-    rows: list[tuple[str, list[Cell]]]
+    rows: list[Figure]
     error: str | None
 
 
-def all_figures(comparison: ClubComparison) -> list[FigureGroup]:
-    """Every output of every calculator: one small table per calculator, a row per output."""
+def all_figures(comparison: ClubComparison, counts: Collection[str] = ()) -> list[FigureGroup]:
+    """Every output of every calculator: one small table per calculator, a row per output, headed
+    by its label and unit; ``counts`` ("<calculator>.<output>") are shown as whole numbers."""
     groups = []
     for name, result in comparison.results.items():
         rows = []
         for output, data in result.outputs.items():
-            cells = [Cell(number_text(v), data_value(v), f"{name}.{output}") for v in data.values]
-            rows.append((header(output, unit_text(data.unit)), cells))
+            key = f"{name}.{output}"
+            integer = key in counts
+            cells = [Cell(number_text(v, integer=integer), data_value(v), key) for v in data.values]
+            rows.append(Figure(header(data.label or output, unit_text(data.unit)), key, cells))
         groups.append(FigureGroup(name, result.version, rows, result.error))
     return groups
+
+
+def counts(registry: Any) -> set[str]:
+    """The outputs (``"<calculator>.<output>"``) the loaded calculators declare as counts."""
+    return {f"{name}.{o.name}" for name, calc in registry.calculators.items() for o in calc.outputs if o.integer}
 
 
 def cautions(comparison: ClubComparison) -> list[str]:
@@ -237,12 +211,13 @@ EQUIPMENT_TABLES = (
      ["Name", "Kind", "Focal length factor [×]", "Mass [kg]", "Price"],
      lambda m: [m.name or "—", m.kind.value, number_text(m.factor), _mass(m), _price(m)]),
     ("cameras", "Cameras",
-     ["Name", "Pixel size [µm]", "Width [pixels]", "Height [pixels]", "Mass [kg]", "Price"],
+     ["Name", "Pixel size [µm]", "Width [px]", "Height [px]", "Mass [kg]", "Price"],
      lambda c: [c.name or "—", number_text(c.pixel_size_um), str(c.width_px), str(c.height_px), _mass(c),
                 _price(c)]),
     ("mounts", "Mounts",
-     ["Name", "Type", "Rated payload [kg]", "Mass [kg]", "Price"],
-     lambda m: [m.name or "—", m.type.value, number_text(m.capacity_kg), _mass(m), _price(m)]),
+     ["Name", "Type", "Drive", "Rated payload [kg]", "Mass [kg]", "Price"],
+     lambda m: [m.name or "—", m.type.value, m.drive.value if m.drive else "—", number_text(m.capacity_kg),
+                _mass(m), _price(m)]),
 )
 
 
@@ -254,9 +229,19 @@ class SimpleTable:
     rows: list[list[str]]
 
 
+def availability_text(item: Any) -> str:
+    """"Available", "On loan until 2026-12-09" (with the borrower for those who may see it), "Retired"."""
+    if item.availability.value == "on loan":
+        who = f" ({item.borrower})" if getattr(item, "borrower", None) else ""
+        late = ", overdue" if getattr(item, "overdue", None) else ""
+        return f"On loan until {item.due.isoformat()}{who}{late}"
+    return item.availability.value.capitalize()
+
+
 def equipment_tables(equipment: ClubEquipment) -> list[SimpleTable]:
     return [
-        SimpleTable(key, caption, headers, [cells(item) for item in getattr(equipment, key)])
+        SimpleTable(key, caption, [*headers, "Availability"],
+                    [[*cells(item), availability_text(item)] for item in getattr(equipment, key)])
         for key, caption, headers, cells in EQUIPMENT_TABLES
         if getattr(equipment, key)
     ]

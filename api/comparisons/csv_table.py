@@ -1,4 +1,5 @@
-"""A comparison as CSV: one row per rig, one column per calculator output, the unit in the header.
+"""A comparison as CSV: one row per rig, one column per calculator output keyed by name, the unit (as
+the club page prints it, api.display) in the header.
 
 Two additions keep a spreadsheet's reader complete without breaking it:
 
@@ -16,6 +17,7 @@ import csv
 import io
 import re
 
+from api import display
 from plugins.results import Comparison
 
 # A cell a spreadsheet would run as a formula (OWASP "CSV injection"); numbers are left alone.
@@ -37,7 +39,8 @@ def _cell(value: object) -> str:
 
 
 def header(calculator: str, output: str, unit: str) -> str:
-    return f"{calculator}.{output} [{unit}]" if unit else f"{calculator}.{output}"
+    """The column of an output: its key (what scripts look up) and its unit as the page prints it."""
+    return display.header(f"{calculator}.{output}", display.unit_text(unit))
 
 
 def null_notes(comparison: Comparison) -> list[str]:

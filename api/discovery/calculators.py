@@ -23,8 +23,8 @@ def describe(registry: Registry, name: str) -> CalculatorPublic:
         version=calculator.version,
         summary=calculator.summary,
         outputs=[
-            OutputPublic(name=o.name, unit=o.unit, description=o.description, kind=o.kind,
-                         nullable=o.nullable, relative=o.relative)
+            OutputPublic(name=o.name, label=o.shown_label, unit=o.unit, description=o.description,
+                         kind=o.kind, integer=o.integer, nullable=o.nullable, relative=o.relative)
             for o in calculator.outputs
         ],
         params_schema=calculator.Params.model_json_schema(),

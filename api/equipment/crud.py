@@ -48,7 +48,7 @@ def crud_router(resource: Resource) -> APIRouter:
             require_match(if_match, row.version, f"{label} {item_id}")
             values = resource.prepare(session, principal, new_body(row))
             resource.before_change(session, principal, row, values)
-            if update_if_version(session, table, item_id, row.version, values, commit=False):
+            if update_if_version(session, table, item_id, row.version, values, commit=False, actor=principal, before=row):
                 # Read our own write before committing: the answer shows the version this update
                 # made, even when another server's update follows at once. Detached, so the commit
                 # does not expire it and a later attribute access cannot load a newer version.
@@ -168,7 +168,7 @@ def crud_router(resource: Resource) -> APIRouter:
         # With a version to hold on to, delete only that version; `*` or no If-Match: any version.
         expected = row.version if if_match is not None and if_match.strip() != "*" else None
         try:
-            deleted = delete_if_version(session, table, item_id, expected)
+            deleted = delete_if_version(session, table, item_id, expected, actor=principal, before=row)
         except IntegrityError:
             # A rig started using it between our check and the delete: the foreign key said no.
             session.rollback()

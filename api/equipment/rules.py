@@ -6,9 +6,11 @@ Rules, enforced here and documented in README:
 * a public rig may reference only public equipment, so a public rig never shows a private item;
 * equipment a rig references cannot be deleted (409 naming the rigs); the database's foreign keys
   refuse it too, should two requests race;
-* equipment that rigs of other accounts or public rigs use cannot be made private (409), and a change
-  that would make a rig using it invalid (e.g. a focal ratio below the physical minimum with that
-  rig's reducer) is refused (409 naming the rigs).
+* equipment that the owner's own public rigs use cannot be made private (409); rigs of other accounts
+  never block it: they keep a copy of the item's spec (api.equipment.copies), as they do when the
+  owner retires it; a change that would make a rig using it invalid (e.g. a focal ratio below the
+  physical minimum with that rig's reducer) is refused (409 naming the rigs);
+* a retired item cannot go into a new rig.
 
 Every rule holds under concurrent requests, from any number of server processes: each is checked
 inside the writing transaction (:func:`api.storage.store.begin_write`) on rows locked as they are
@@ -49,6 +51,7 @@ def meta(row: StoredItem, owner: str) -> dict[str, Any]:
     return {
         "id": row.id, "owner": owner, "visibility": row.visibility, "version": row.version,
         "created_at": aware(row.created_at), "updated_at": aware(row.updated_at),
+        "retired_at": aware(row.retired_at) if row.retired_at is not None else None,
     }
 
 
@@ -123,13 +126,17 @@ def _equipment_hooks(label: str):
         rigs = _locked_rigs_using(session, label, row)
         if not rigs:
             return
-        if values["visibility"] == Visibility.private.value:
-            exposed = [r for r in rigs if r.visibility == Visibility.public.value or r.owner_id != row.owner_id]
-            if exposed:
-                raise _used_by(
-                    label, row.id, exposed, principal,
-                    "public rigs and other accounts' rigs need it to stay public",
-                )
+        if values["visibility"] != Visibility.public.value and row.visibility == Visibility.public.value:
+            own_public = [r for r in rigs if r.visibility == Visibility.public.value and r.owner_id == row.owner_id]
+            if own_public:
+                raise _used_by(label, row.id, own_public, principal, "make those rigs private first")
+            others = [r for r in rigs if r.owner_id != row.owner_id]
+            if others:
+                # Other accounts' rigs keep a copy of the item as it is now; they cannot block its owner.
+                from api.equipment import copies
+
+                copies.copy_into(session, label, f"{label}s", row, others, copies.MADE_PRIVATE, principal)
+                rigs = [r for r in rigs if r.owner_id == row.owner_id]
         if values["spec"] != row.spec:
             after = stored_rig_specs(session, rigs, override={(label, row.id): values["spec"]})
             broken = [rig for rig, spec in zip(rigs, after) if not _valid(spec)]
@@ -218,6 +225,8 @@ def resolve_slots(
                 row = found[slot].get(value.id)
                 if row is None:
                     errors.append(FieldError(field=where, message=f"no {slot} with id {value.id} that you can read"))
+                elif row.retired_at is not None:
+                    errors.append(FieldError(field=where, message=f"{slot} {value.id} is retired"))
                 elif request.public_only and row.visibility != Visibility.public.value:
                     errors.append(FieldError(
                         field=where,
@@ -294,7 +303,10 @@ def _rig_prepare(session: Session, principal: Principal, body: BaseModel) -> dic
 def _rig_present(session: Session, rows: Sequence[tuple[StoredItem, str]]) -> list[BaseModel]:
     specs = stored_rig_specs(session, [row for row, _ in rows])
     return [
-        present_item(schemas.RigPublic, {**row.spec, **meta(row, owner), "resolved": spec})
+        present_item(schemas.RigPublic, {
+            **row.spec, **meta(row, owner), "resolved": spec, "copied_parts": row.copied_parts or [],
+            "uses_retired_equipment": any(p.get("reason") == "retired" for p in row.copied_parts or []),
+        })
         for (row, owner), spec in zip(rows, specs)
     ]
 

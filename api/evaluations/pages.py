@@ -93,9 +93,27 @@ def _page(request: Request, caller, item_id: int) -> str:
         saved.saved_spec(row), saved.saved_components(row), saved.EvaluationResult.model_validate(row.result),
         request.app.state.registry, title=row.name or f"Evaluation {row.id}", entries=entries,
         owner=owner, saved_at=aware(row.created_at).strftime("%Y-%m-%d %H:%M UTC"), visibility=row.visibility,
-        rerun=f"{base}/rerun",
+        rerun=f"{base}/rerun", now_page=f"{page}/now",
         links={"csv": f"{base}?format=csv", "json": base, "tradeoff": f"{page}/trade-off.svg",
                "objectives": f"{page}/objectives.svg"},
+    )
+
+
+def _now_page(request: Request, caller, item_id: int) -> str:
+    """The saved evaluation computed again with today's equipment, with what changed."""
+    state = request.app.state
+    with Session(state.engine) as session:
+        row, owner = saved.fetch(session, item_id, caller)
+        stored, current = saved.stored_equipment(session, row, caller)
+    answer, components, spec = saved.rerun(state, caller, row, stored, current)
+    entries = _entries(stored)
+    base, page = f"/v1/evaluations/saved/{row.id}", saved.report_path(row.id)
+    return render(
+        spec, components, answer.result, state.registry, title=f"{row.name or f'Evaluation {row.id}'}: run again now",
+        entries=entries, owner=owner, saved_at=aware(row.created_at).strftime("%Y-%m-%d %H:%M UTC"),
+        visibility=row.visibility, saved_page=page,
+        changes=report.changes_view(answer.changes, components, state.registry.calculators, answer.result.units),
+        rerun=f"{base}/rerun",
     )
 
 
@@ -109,6 +127,15 @@ def report_css() -> FileResponse:
 async def evaluation_report(item_id: str, request: Request, caller: Caller) -> Response:
     try:
         html = await run_in_threadpool(_page, request, caller, _item_id(item_id))
+    except ApiProblem as problem:
+        return _problem_page(request, problem)
+    return HTMLResponse(html, headers={"Content-Security-Policy": club_page.PAGE_POLICY})
+
+
+@router.get("/evaluations/{item_id}/now", response_class=HTMLResponse, include_in_schema=False)
+async def evaluation_now(item_id: str, request: Request, caller: Caller) -> Response:
+    try:
+        html = await run_in_threadpool(_now_page, request, caller, _item_id(item_id))
     except ApiProblem as problem:
         return _problem_page(request, problem)
     return HTMLResponse(html, headers={"Content-Security-Policy": club_page.PAGE_POLICY})

@@ -197,14 +197,16 @@ def _sheet(rank, row, components, bounds_by_key, objectives, result, calculators
     i = rank - 1
     units = result.units
     buy, total = _purchase(components, row)
+    # An output both constrained and optimised is one row: its direction and its bound.
     constraints = [{
         "label": label_of(key, calculators), "key": key, "unit": units.get(key, ""),
         "value": charts.number_text(row.values.get(key)),
         "bounds": bounds_text(bounds, units.get(key, "")), "met": True,
-    } for key, bounds in bounds_by_key.items()]
+    } for key, bounds in bounds_by_key.items() if key not in objectives]
     objectives = [{
         "label": label_of(key, calculators), "key": key, "unit": units.get(key, ""),
         "value": charts.number_text(row.values.get(key)), "direction": direction,
+        "bounds": bounds_text(bounds_by_key[key], units.get(key, "")) if key in bounds_by_key else None,
     } for key, direction in objectives.items()]
     sheet = {"rank": rank, "indices": ",".join(map(str, _indices(row))), "score": row.score,
              "parts": _parts(components, row, entries), "purchase": buy, "total": total,
@@ -333,3 +335,31 @@ def components_summary(components) -> list[dict]:
 
 def is_finite(value) -> bool:
     return isinstance(value, (int, float)) and math.isfinite(value)
+
+
+def combination_name(components, indices) -> str:
+    """A combination in words: its parts' names joined with +."""
+    names = []
+    for axis, kind in enumerate(AXES):
+        index = getattr(indices, kind)
+        part = components[axis][index]
+        if part is not None:
+            names.append(_name(kind, index, part))
+    return " + ".join(names)
+
+
+def changes_view(changes, components, calculators, units) -> dict[str, Any]:
+    """What a re-run changed, in words for the page (combinations named by their parts)."""
+    def named(indices) -> str:
+        return "—" if indices is None else combination_name(components, indices)
+
+    return {
+        "evaluated": changes.evaluated, "feasible": changes.feasible,
+        "best": (named(changes.best_saved), named(changes.best_now)),
+        "same_best": changes.best_saved == changes.best_now,
+        "added": [named(i) for i in changes.front_added], "removed": [named(i) for i in changes.front_removed],
+        "values": [{"combination": named(v.indices), "label": label_of(v.key, calculators),
+                    "unit": units.get(v.key, ""), "saved": charts.number_text(v.saved), "now": charts.number_text(v.now)}
+                   for v in changes.values[:50]],
+        "more_values": max(len(changes.values) - 50, 0),
+    }

@@ -299,3 +299,20 @@ def changes(saved: EvaluationResult, now: EvaluationResult) -> AnswerChanges:
         best_now=now.top[0].indices if now.top else None,
         values=moved,
     )
+
+
+def rerun(state, principal: Principal | None, row: SavedEvaluationRow, entries: list[StoredEntry],
+          current: dict[tuple[str, int], Any]):
+    """The saved evaluation computed again now (the site read again too, its conditions may have
+    changed like the equipment); also the components and the spec it was computed from."""
+    from api.evaluations.request import MAX_FRONT_ROWS
+
+    components, ids = rerun_components(row, current)
+    components, _ids, spec, now = compute(
+        state.engine, principal, saved_request(row), registry=state.registry,
+        maximum=state.settings.max_combinations, max_front_rows=MAX_FRONT_ROWS, components=components, ids=ids,
+    )
+    before = EvaluationResult.model_validate(row.result)
+    answer = Rerun(id=row.id, report_url=report_path(row.id), stored_equipment=entries,
+                   changes=changes(before, now), result=now)
+    return answer, components, spec

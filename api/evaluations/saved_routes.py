@@ -17,7 +17,6 @@ from api.evaluations.csv_table import evaluation_csv
 from api.evaluations.request import MAX_FRONT_ROWS
 from api.evaluations.routes import CSV_RESPONSE
 from api.http import problems
-from calculators.evaluation_schemas import EvaluationResult
 
 router = APIRouter(prefix="/v1/evaluations/saved", tags=["evaluations"])
 
@@ -73,17 +72,8 @@ async def get_saved_evaluation(item_id: ItemId, request: Request, caller: Caller
 
 
 def _rerun(request: Request, caller, item_id: int) -> saved.Rerun:
-    state = request.app.state
     row, _owner, entries, current = _read(request, caller, item_id)
-    components, ids = saved.rerun_components(row, current)
-    # The site is read again too: its conditions may have changed like the equipment.
-    _components, _ids, _spec, now = saved.compute(
-        state.engine, caller, saved.saved_request(row), registry=state.registry,
-        maximum=state.settings.max_combinations, max_front_rows=MAX_FRONT_ROWS, components=components, ids=ids,
-    )
-    before = EvaluationResult.model_validate(row.result)
-    return saved.Rerun(id=row.id, report_url=saved.report_path(row.id), stored_equipment=entries,
-                       changes=saved.changes(before, now), result=now)
+    return saved.rerun(request.app.state, caller, row, entries, current)[0]
 
 
 @router.post(

@@ -28,6 +28,7 @@ class AccountKind(StrEnum):
 class Visibility(StrEnum):
     private = "private"
     public = "public"
+    members = "members"  # a club's members (and officers) only
 
 
 class KeyScope(StrEnum):
@@ -90,6 +91,8 @@ class StoredItem(SQLModel):
     version: int = Field(default=1, sa_type=BigInteger, nullable=False)
     created_at: datetime = _timestamp()
     updated_at: datetime = _timestamp()
+    # Set when the owner retires the item (api.equipment.retire): gone from lists and new rigs.
+    retired_at: datetime | None = Field(default=None, sa_type=DateTime(timezone=True), nullable=True)
 
 
 class TelescopeRow(StoredItem, table=True):
@@ -129,6 +132,9 @@ class RigRow(StoredItem, table=True):
     camera_id: int | None = _reference("cameras")
     modifier_id: int | None = _reference("modifiers")
     mount_id: int | None = _reference("mounts")
+    # Parts copied into the rig when their owner retired them or made them private
+    # (api.equipment.copies): [{"slot", "kind", "id", "reason", "taken_at"}].
+    copied_parts: list = Field(default_factory=list, sa_type=JSON, nullable=False)
 
 
 class SavedEvaluationRow(StoredItem, table=True):
@@ -141,3 +147,8 @@ class SavedEvaluationRow(StoredItem, table=True):
     __tablename__ = "saved_evaluations"
 
     result: dict = Field(sa_type=JSON, nullable=False)
+
+
+# Memberships, loans and history live in their own module; imported here so every table is on
+# SQLModel.metadata whenever the models are.
+from api.storage.club_models import HistoryRow, LoanRow, MembershipRow  # noqa: E402,F401

@@ -11,12 +11,13 @@ from collections.abc import Sequence
 from datetime import UTC, datetime
 from typing import Any
 
-from sqlalchemy import func, or_, update
+from sqlalchemy import and_, func, or_, update
 from sqlalchemy.sql import ColumnElement
 from sqlmodel import Session, select
 
 from api.accounts.keys import Principal
 from api.http.problems import ApiProblem
+from api.storage import history
 from api.storage.db import BEGIN_IMMEDIATE
 from api.storage.models import Account, StoredItem, Visibility, utcnow
 
@@ -55,10 +56,17 @@ def aware(moment: datetime) -> datetime:
 
 
 def readable_by(table: type[StoredItem], principal: Principal | None) -> ColumnElement[bool]:
+    """Public items; with a key also one's own, a club's items for its officers, members-only ones for members."""
+    from api.clubs.roles import member_clubs, officer_clubs
+
     public = table.visibility == Visibility.public.value
     if principal is None:
         return public
-    return or_(public, table.owner_id == principal.account.id)
+    me = principal.account.id
+    return or_(
+        public, table.owner_id == me, table.owner_id.in_(officer_clubs(me)),
+        and_(table.visibility == Visibility.members.value, table.owner_id.in_(member_clubs(me))),
+    )
 
 
 def not_found(label: str, item_id: int) -> ApiProblem:
@@ -86,9 +94,11 @@ def fetch_owned(
     session: Session, table: type[StoredItem], item_id: int, principal: Principal, label: str
 ) -> tuple[StoredItem, str]:
     """The item if the caller owns it: 404 when they cannot read it, 403 when they only can read it."""
+    from api.clubs.roles import may_manage
+
     row, owner = fetch_readable(session, table, item_id, principal, label)
-    if row.owner_id != principal.account.id:
-        raise ApiProblem(403, f"{label} {item_id} belongs to {owner!r}; only its owner may change it")
+    if not may_manage(session, row.owner_id, principal):
+        raise ApiProblem(403, f"{label} {item_id} belongs to {owner!r}; only its owner (or a club's officer) may change it")
     return row, owner
 
 
@@ -102,7 +112,8 @@ def list_items(
     limit: int,
     offset: int,
 ) -> tuple[list[tuple[StoredItem, str]], int]:
-    conditions = [readable_by(table, principal)]
+    # Retired items are gone from every list (their owner still reads them by id).
+    conditions = [readable_by(table, principal), table.retired_at.is_(None)]
     if owner is not None:
         conditions.append(Account.name == owner)
     if visibility is not None:
@@ -117,8 +128,12 @@ def list_items(
 
 def insert(session: Session, table: type[StoredItem], principal: Principal, values: dict[str, Any]) -> StoredItem:
     now = utcnow()
-    row = table(owner_id=principal.account.id, version=1, created_at=now, updated_at=now, **values)
+    owner_id = values.pop("owner_id", principal.account.id)  # an officer may store for their club
+    row = table(owner_id=owner_id, version=1, created_at=now, updated_at=now, **values)
     session.add(row)
+    session.flush()
+    history.record(session, kind=table.__tablename__, item_id=row.id, owner_id=owner_id, version=1,
+                   action="create", actor=principal.account, changed=history.changed_fields(None, history.item_values(row)))
     session.commit()
     session.refresh(row)
     return row
@@ -126,29 +141,46 @@ def insert(session: Session, table: type[StoredItem], principal: Principal, valu
 
 def update_if_version(
     session: Session, table: type[StoredItem], item_id: int, version: int, values: dict[str, Any],
-    *, commit: bool = True,
+    *, commit: bool = True, actor: Principal | None = None, before: StoredItem | None = None,
+    action: str = "update",
 ) -> bool:
     """Apply ``values`` only if the stored version is still ``version``; True when it was.
 
     With ``commit=False`` the caller commits, so it can read its own write first (under the row lock).
+    With ``before`` (the row as read), the change is recorded in the history in the same transaction.
     """
+    # Read before the UPDATE: the ORM brings the session's row object up to date with what it sets.
+    old = history.item_values(before) if before is not None else None
     result = session.execute(
         update(table)
         .where(table.id == item_id, table.version == version)
         .values(**values, version=table.version + 1, updated_at=utcnow())
     )
+    if before is not None and result.rowcount == 1:
+        new = {**(values.get("spec", old) or {}), "visibility": values.get("visibility", old["visibility"])}
+        new = {**new, "visibility": values.get("visibility", old["visibility"])}
+        history.record(session, kind=table.__tablename__, item_id=item_id, owner_id=before.owner_id,
+                       version=version + 1, action=action, actor=actor.account if actor else None,
+                       changed=history.changed_fields(old, new))
     if commit:
         session.commit()
     return result.rowcount == 1
 
 
-def delete_if_version(session: Session, table: type[StoredItem], item_id: int, version: int | None) -> bool:
+def delete_if_version(
+    session: Session, table: type[StoredItem], item_id: int, version: int | None,
+    *, actor: Principal | None = None, before: StoredItem | None = None,
+) -> bool:
     from sqlalchemy import delete
 
     statement = delete(table).where(table.id == item_id)
     if version is not None:
         statement = statement.where(table.version == version)
     result = session.execute(statement)
+    if before is not None and result.rowcount == 1:
+        history.record(session, kind=table.__tablename__, item_id=item_id, owner_id=before.owner_id,
+                       version=before.version, action="delete", actor=actor.account if actor else None,
+                       changed=history.changed_fields(history.item_values(before), None))
     session.commit()
     return result.rowcount == 1
 

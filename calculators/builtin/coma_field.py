@@ -98,19 +98,19 @@ class ComaField(Calculator):
     outputs = (
         Output("diffraction_limited_field_mm", "mm",
                "Diameter of the field where coma meets the criterion (newtonian without corrector).",
-               nullable=True),
+               nullable=True, label="Coma-free field"),
         Output("diffraction_limited_field_arcmin", "arcmin",
-               "The same field as an angle on the sky.", nullable=True),
-        Output("sensor_diagonal_mm", "mm", "Diagonal of the sensor's active area."),
+               "The same field as an angle on the sky.", nullable=True, label="Coma-free field on the sky"),
+        Output("sensor_diagonal_mm", "mm", "Diagonal of the sensor's active area.", label="Sensor diagonal"),
         Output("field_to_sensor", "",
                "Coma-free (or stated corrected) field diameter over the sensor diagonal; < 1 means "
-               "the corners fall outside it.", nullable=True),
+               "the corners fall outside it.", nullable=True, label="Coma-free field over sensor"),
         Output("collimation_tolerance_mm", "mm",
                "Lateral offset of the primary's axis at the focal plane that puts the criterion's "
-               "coma on axis (newtonians).", nullable=True),
+               "coma on axis (newtonians).", nullable=True, label="Collimation tolerance"),
         Output("verdict", "", "'corrector needed', 'sensor within coma-free field', 'sensor fits "
                "corrected field', 'sensor exceeds corrected field', 'corrected (field not stated)' or "
-               "'not applicable'.", kind="text"),
+               "'not applicable'.", kind="text", label="Coma check"),
     )
     sources = (
         "Schroeder, D. J., Astronomical Optics, 2nd ed., Academic Press 2000, §6.1: paraboloid "

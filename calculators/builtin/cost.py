@@ -24,14 +24,13 @@ Example: a 1000 EUR telescope of 200 mm aperture with a 60 mm obstruction (A = 2
 
 from __future__ import annotations
 
-from collections.abc import Iterator
 from typing import Annotated
 
 import numpy as np
 from pydantic import Field, model_validator
 
 from calculators.base import Calculator, Output
-from calculators.batch import PRICE_SLOTS, RigBatch
+from calculators.batch import PRICE_SLOTS, RigBatch, per_batch
 from calculators.builtin.etendue import field_solid_angle_deg2
 from calculators.builtin.light_grasp import batch_clear_area_mm2
 from calculators.errors import CalculationError
@@ -59,15 +58,30 @@ class CostParams(Strict):
         return self
 
 
-def _priced_slots(batch: RigBatch) -> Iterator[tuple[str, np.ndarray, np.ndarray, np.ndarray]]:
-    """(slot, price, currency, priced mask) for every price column pair with at least one price."""
+def _priced_slots(batch: RigBatch) -> list[tuple[str, np.ndarray, np.ndarray, np.ndarray]]:
+    """(slot, price, currency, priced mask) for every price column pair with at least one price.
+
+    Worked out once per batch: the total, the currency and the units each need it.
+    """
+    store = getattr(batch, "derived", None)
+    if store is not None and _PRICED_KEY in store:
+        return store[_PRICED_KEY]
+    found = []
     for slot in PRICE_SLOTS:
         price = batch[f"{slot}_price"]
         priced = ~np.isnan(price)
         if priced.any():
-            yield slot, price, batch[f"{slot}_currency"], priced
+            priced.flags.writeable = False  # shared by the callers: none may change it
+            found.append((slot, price, batch[f"{slot}_currency"], priced))
+    if store is not None:
+        store[_PRICED_KEY] = found
+    return found
 
 
+_PRICED_KEY = f"{__name__}.priced_slots"
+
+
+@per_batch
 def _first_currency(batch: RigBatch) -> str | None:
     """The currency of the first priced component found, or None if nothing is priced."""
     for _, _, currency, priced in _priced_slots(batch):
@@ -160,11 +174,12 @@ class Cost(Calculator):
     Params = CostParams
     outputs = (
         Output("total_price", "", "Sum of the priced components, in the batch's one currency "
-               "(the unit is the currency code).", nullable=True),
+               "(the unit is the currency code).", nullable=True, label="Price"),
         Output("price_per_cm2", "", "Total price per cm² of clear aperture (net of the obstruction).",
-               nullable=True),
+               nullable=True, label="Price per aperture area"),
         Output("price_per_etendue_cm2_deg2", "",
-               "Total price per cm²·deg² of étendue (clear area × field solid angle).", nullable=True),
+               "Total price per cm²·deg² of étendue (clear area × field solid angle).", nullable=True,
+               label="Price per étendue"),
     )
     sources = (
         "Sum of prices (arithmetic); clear area π/4·(D² − d²) (plane geometry).",

@@ -72,15 +72,19 @@ class DiffractionSpikes(Calculator):
     Params = DiffractionSpikesParams
     outputs = (
         Output("spike_count", "", "Number of spikes: n straight vanes give n (n even) or 2n (n odd); "
-               "curved vanes give none (fans).", nullable=True),
-        Output("spike_spacing_deg", "deg", "Angle between neighbouring spikes, 360°/count.", nullable=True),
+               "curved vanes give none (fans).", nullable=True, label="Spikes", integer=True),
+        Output("spike_spacing_deg", "deg", "Angle between neighbouring spikes, 360°/count.", nullable=True,
+               label="Spike spacing"),
         Output("first_spike_from_vane_deg", "deg",
                "Angle of the nearest spike from the first vane (spikes are perpendicular to vanes).",
-               nullable=True),
-        Output("vane_area_mm2", "mm^2", "Pupil area blocked by the vanes, n·w·(D − d)/2.", nullable=True),
+               nullable=True, label="First spike from vane"),
+        Output("vane_area_mm2", "mm^2", "Pupil area blocked by the vanes, n·w·(D − d)/2.", nullable=True,
+               label="Vane area"),
         Output("spike_energy_fraction", "", "Fraction of the star's light diffracted by the vanes "
-               "into spikes (or fans), vane area ÷ clear area (upper estimate).", nullable=True),
-        Output("pattern", "", "'spikes', 'fans', 'none' or 'unknown' (vane count not stated).", kind="text"),
+               "into spikes (or fans), vane area ÷ clear area (upper estimate).", nullable=True,
+               label="Light in spikes"),
+        Output("pattern", "", "'spikes', 'fans', 'none' or 'unknown' (vane count not stated).", kind="text",
+               label="Spike pattern"),
     )
     sources = (
         "Hecht, E., Optics, 5th ed., Pearson 2017, ch. 10: Fraunhofer diffraction as the Fourier "

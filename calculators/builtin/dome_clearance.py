@@ -84,10 +84,11 @@ class DomeClearance(Calculator):
     Params = DomeClearanceParams
     outputs = (
         Output("swept_radius_mm", "mm", "Farthest reach of the tube from the axes' intersection.",
-               nullable=True),
+               nullable=True, label="Swept radius"),
         Output("clearance_mm", "mm", "Dome radius less the offset of the intersection and the swept "
-               "radius (worst case; negative: the tube can touch).", nullable=True),
-        Output("verdict", "", "'clear', 'tight', 'collision possible' or 'unknown'.", kind="text"),
+               "radius (worst case; negative: the tube can touch).", nullable=True, label="Dome clearance"),
+        Output("verdict", "", "'clear', 'tight', 'collision possible' or 'unknown'.", kind="text",
+               label="Dome check"),
     )
     sources = (
         "Plane and solid geometry (Pythagoras; triangle inequality for the offset dome centre).",

@@ -80,11 +80,14 @@ class Etendue(Calculator):
     summary = "Clear area times the solid angle of the sensor's field, and of one pixel."
     Params = NoParams
     outputs = (
-        Output("etendue_m2_deg2", "m^2*deg^2", "Clear aperture area times the field's solid angle."),
+        Output("etendue_m2_deg2", "m^2*deg^2", "Clear aperture area times the field's solid angle.",
+               label="Étendue"),
         Output("pixel_etendue_m2_arcsec2", "m^2*arcsec^2",
-               "Clear aperture area times one pixel's solid angle on the sky."),
-        Output("field_solid_angle_deg2", "deg^2", "Solid angle of sky covered by the sensor."),
-        Output("etendue_ratio", "", "Étendue relative to the baseline rig.", relative=True),
+               "Clear aperture area times one pixel's solid angle on the sky.", label="Étendue per pixel"),
+        Output("field_solid_angle_deg2", "deg^2", "Solid angle of sky covered by the sensor.",
+               label="Field solid angle"),
+        Output("etendue_ratio", "", "Étendue relative to the baseline rig.", relative=True,
+               label="Étendue ratio"),
     )
     sources = (
         "Welford & Winston, High Collection Nonimaging Optics, 1989, ch. 2 (étendue, conservation).",

@@ -70,16 +70,21 @@ class Guiding(Calculator):
     summary = "Total RMS guiding error the rig tolerates, and the guide camera pixel scale needed to measure it."
     Params = GuidingParams
     outputs = (
-        Output("pixel_scale_arcsec", "arcsec", "Imaging pixel scale 206.265·p/f (per pixel)."),
-        Output("pixel_rule_rms_arcsec", "arcsec", "Total RMS within the pixel fraction of the scale."),
+        Output("pixel_scale_arcsec", "arcsec", "Imaging pixel scale 206.265·p/f (per pixel).",
+               label="Pixel scale"),
+        Output("pixel_rule_rms_arcsec", "arcsec", "Total RMS within the pixel fraction of the scale.",
+               label="Guiding RMS by pixel rule"),
         Output("seeing_rule_rms_arcsec", "arcsec",
-               "Total RMS that widens the seeing FWHM by the stated fraction."),
-        Output("tolerated_rms_arcsec", "arcsec", "The looser of the two rules."),
+               "Total RMS that widens the seeing FWHM by the stated fraction.",
+               label="Guiding RMS by seeing rule"),
+        Output("tolerated_rms_arcsec", "arcsec", "The looser of the two rules.",
+               label="Tolerated guiding RMS"),
         Output("max_guide_pixel_scale_arcsec", "arcsec", "Largest guide pixel scale (per guide pixel) that "
-               "still resolves the tolerated error."),
+               "still resolves the tolerated error.", label="Largest guide pixel scale"),
         Output("min_guide_focal_length_mm", "mm", "Shortest guide focal length for the guide pixel "
-               "size param."),
-        Output("limited_by", "", "'pixel scale' or 'seeing': which rule sets the tolerance.", kind="text"),
+               "size param.", label="Shortest guide focal length"),
+        Output("limited_by", "", "'pixel scale' or 'seeing': which rule sets the tolerance.", kind="text",
+               label="Limited by"),
     )
     # Renamed in 1.1.0; the old names are still accepted in evaluations for one release.
     renamed_outputs = {

@@ -185,20 +185,27 @@ class IntegrationTime(Calculator):
     summary = "Per-pixel electron rates, total integration time to a target S/N, sub-exposures, sky-limited sub length."
     Params = IntegrationTimeParams
     outputs = (
-        Output("object_rate_e_s", "1/s", "Object electrons per second per pixel.", nullable=True),
-        Output("sky_rate_e_s", "1/s", "Sky electrons per second per pixel.", nullable=True),
-        Output("dark_rate_e_s", "1/s", "Dark-current electrons per second per pixel.", nullable=True),
-        Output("snr_per_sub", "", "Signal-to-noise per pixel in one sub-exposure.", nullable=True),
+        Output("object_rate_e_s", "1/s", "Object electrons per second per pixel.", nullable=True,
+               label="Object signal per pixel"),
+        Output("sky_rate_e_s", "1/s", "Sky electrons per second per pixel.", nullable=True,
+               label="Sky signal per pixel"),
+        Output("dark_rate_e_s", "1/s", "Dark-current electrons per second per pixel.", nullable=True,
+               label="Dark signal per pixel"),
+        Output("snr_per_sub", "", "Signal-to-noise per pixel in one sub-exposure.", nullable=True,
+               label="S/N per sub-exposure"),
         Output("total_time_s", "s", "Total integration time to reach the target S/N per pixel.",
-               nullable=True),
+               nullable=True, label="Total integration time"),
         Output("sub_exposures", "", "Number of sub-exposures of the given length (rounded up).",
-               nullable=True),
+               nullable=True, label="Sub-exposures", integer=True),
         Output("sky_limited_sub_s", "s", "Shortest sub-exposure for which read noise adds at most the "
-               "stated fraction to the background noise.", nullable=True),
+               "stated fraction to the background noise.", nullable=True,
+               label="Shortest sky-limited sub-exposure"),
         Output("line_transmission", "", "Fraction of the emission line's photons the filter passes "
-               "(1 without a filter; null for a continuum object).", nullable=True),
+               "(1 without a filter; null for a continuum object).", nullable=True,
+               label="Line transmission"),
         Output("line_pixel_fraction", "", "Fraction of the sensor's pixels that see the object: ¼ or "
-               "¾ of a colour (Bayer) sensor's for a line, 1 otherwise.", nullable=True),
+               "¾ of a colour (Bayer) sensor's for a line, 1 otherwise.", nullable=True,
+               label="Pixels seeing the line"),
     )
     sources = (
         "Howell, S. B., Handbook of CCD Astronomy, 2nd ed., Cambridge University Press 2006, §4.4: "

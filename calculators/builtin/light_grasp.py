@@ -46,10 +46,13 @@ class LightGrasp(Calculator):
     summary = "Clear collecting area, its ratio to the baseline, gain over the eye, limiting magnitude."
     Params = LightGraspParams
     outputs = (
-        Output("clear_area_mm2", "mm^2", "Aperture area net of the central obstruction."),
-        Output("area_ratio", "", "Clear area relative to the baseline rig.", relative=True),
-        Output("light_gain_over_eye", "", "Light gathered relative to a dark-adapted eye's pupil."),
-        Output("visual_limiting_magnitude", "mag", "Faintest star visible by eye (rule of thumb)."),
+        Output("clear_area_mm2", "mm^2", "Aperture area net of the central obstruction.", label="Clear area"),
+        Output("area_ratio", "", "Clear area relative to the baseline rig.", relative=True,
+               label="Light grasp"),
+        Output("light_gain_over_eye", "", "Light gathered relative to a dark-adapted eye's pupil.",
+               label="Light gain over the eye"),
+        Output("visual_limiting_magnitude", "mag", "Faintest star visible by eye (rule of thumb).",
+               label="Visual limiting magnitude"),
     )
     # Renamed in 1.1.0; the old names are still accepted in evaluations for one release.
     renamed_outputs = {

@@ -132,18 +132,23 @@ class MirrorCooldown(Calculator):
     summary = "Primary mirror's thermal time constant, settling time and lag behind cooling air, with and without fans."
     Params = MirrorCooldownParams
     outputs = (
-        Output("time_constant_minutes", "min", "Lumped time constant ρct/(2h) in still air.", nullable=True),
-        Output("time_constant_fan_minutes", "min", "Lumped time constant with fans.", nullable=True),
+        Output("time_constant_minutes", "min", "Lumped time constant ρct/(2h) in still air.", nullable=True,
+               label="Cooling time constant"),
+        Output("time_constant_fan_minutes", "min", "Lumped time constant with fans.", nullable=True,
+               label="Cooling time constant, fans"),
         Output("settle_time_minutes", "min", "Time for the mirror's mid-plane to come within the "
-               "tolerance of the air, still air.", nullable=True),
-        Output("settle_time_fan_minutes", "min", "The same with fans.", nullable=True),
+               "tolerance of the air, still air.", nullable=True, label="Settling time"),
+        Output("settle_time_fan_minutes", "min", "The same with fans.", nullable=True,
+               label="Settling time, fans"),
         Output("lag_k", "K", "Steady lag of the mid-plane behind air cooling at the given rate, still "
-               "air.", nullable=True),
-        Output("lag_fan_k", "K", "The same with fans.", nullable=True),
-        Output("biot_number", "", "h·(t/2)/k in still air; the lumped model needs < 0.1.", nullable=True),
-        Output("biot_number_fan", "", "The same with fans.", nullable=True),
+               "air.", nullable=True, label="Mirror lag"),
+        Output("lag_fan_k", "K", "The same with fans.", nullable=True, label="Mirror lag, fans"),
+        Output("biot_number", "", "h·(t/2)/k in still air; the lumped model needs < 0.1.", nullable=True,
+               label="Biot number"),
+        Output("biot_number_fan", "", "The same with fans.", nullable=True, label="Biot number, fans"),
         Output("model_note", "", "'lumped model holds', 'fans: Bi ≥ 0.1, lumped time constant is "
-               "optimistic', 'Bi ≥ 0.1 …' or 'unknown (mirror thickness not stated)'.", kind="text"),
+               "optimistic', 'Bi ≥ 0.1 …' or 'unknown (mirror thickness not stated)'.", kind="text",
+               label="Cooling model"),
     )
     # Renamed in 1.1.0; the old names are still accepted in evaluations for one release.
     renamed_outputs = {

@@ -97,22 +97,27 @@ class Payload(Calculator):
     summary = "Payload against the mount's rating, wind force on the tube, moments and inertia."
     Params = PayloadParams
     outputs = (
-        Output("payload_kg", "kg", "Telescope + modifier + camera + accessories.", nullable=True),
-        Output("capacity_fraction", "", "Payload ÷ the mount's rated capacity.", nullable=True),
+        Output("payload_kg", "kg", "Telescope + modifier + camera + accessories.", nullable=True,
+               label="Payload"),
+        Output("capacity_fraction", "", "Payload ÷ the mount's rated capacity.", nullable=True,
+               label="Mount load"),
         Output("imaging_margin_kg", "kg",
                "imaging_fraction × capacity − payload (common-practice imaging limit; negative: over).",
-               nullable=True),
-        Output("wind_force_n", "N", "Drag of a steady wind on the tube's side.", nullable=True),
+               nullable=True, label="Imaging margin"),
+        Output("wind_force_n", "N", "Drag of a steady wind on the tube's side.", nullable=True,
+               label="Wind force"),
         Output("tube_inertia_kg_m2", "kg*m^2",
                "Telescope as a thin-walled tube about a transverse axis through its centre.",
-               nullable=True),
+               nullable=True, label="Tube inertia"),
         Output("payload_moment_nm", "N*m",
-               "Moment of the payload about the RA axis with the shaft level.", nullable=True),
+               "Moment of the payload about the RA axis with the shaft level.", nullable=True,
+               label="Payload moment"),
         Output("counterweight_arm_mm", "mm",
-               "Distance from the RA axis at which the counterweight balances.", nullable=True),
+               "Distance from the RA axis at which the counterweight balances.", nullable=True,
+               label="Counterweight arm"),
         Output("ra_inertia_kg_m2", "kg*m^2",
                "Moment of inertia about the RA axis (tube across the axis, the largest case).",
-               nullable=True),
+               nullable=True, label="RA axis inertia"),
     )
     sources = (
         "Drag equation F = ½ρv²C_dA; C_d ≈ 1.2 for a long cylinder in cross-flow: Hoerner, "

@@ -65,15 +65,21 @@ class Resolution(Calculator):
     summary = "Dawes and Rayleigh limits, Airy disc size in µm and pixels, seeing- or diffraction-limited."
     Params = ResolutionParams
     outputs = (
-        Output("dawes_arcsec", "arcsec", "Dawes limit 116″/D (empirical, wavelength-free)."),
-        Output("rayleigh_arcsec", "arcsec", "Rayleigh limit 1.21967·λ/D at the wavelength param."),
-        Output("airy_diameter_arcsec", "arcsec", "Angular diameter of the Airy disc, 2 × Rayleigh."),
-        Output("airy_diameter_um", "um", "Airy disc diameter at the focal plane, 2.43934·λ·N."),
-        Output("airy_diameter_px", "pixel", "Airy disc diameter in camera pixels."),
-        Output("seeing_to_rayleigh", "", "Seeing FWHM divided by the Rayleigh limit."),
+        Output("dawes_arcsec", "arcsec", "Dawes limit 116″/D (empirical, wavelength-free).",
+               label="Dawes limit"),
+        Output("rayleigh_arcsec", "arcsec", "Rayleigh limit 1.21967·λ/D at the wavelength param.",
+               label="Rayleigh limit"),
+        Output("airy_diameter_arcsec", "arcsec", "Angular diameter of the Airy disc, 2 × Rayleigh.",
+               label="Airy disc"),
+        Output("airy_diameter_um", "um", "Airy disc diameter at the focal plane, 2.43934·λ·N.",
+               label="Airy disc at focus"),
+        Output("airy_diameter_px", "pixel", "Airy disc diameter in camera pixels.",
+               label="Airy disc in pixels"),
+        Output("seeing_to_rayleigh", "", "Seeing FWHM divided by the Rayleigh limit.",
+               label="Seeing over Rayleigh limit"),
         Output(
             "limited_by", "", "'seeing-limited' when the seeing FWHM exceeds the Rayleigh limit, "
-            "else 'diffraction-limited'.", kind="text",
+            "else 'diffraction-limited'.", kind="text", label="Limited by",
         ),
     )
     sources = (

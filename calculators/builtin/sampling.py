@@ -109,17 +109,23 @@ class Sampling(Calculator):
     summary = "Pixel scale, field of view, and how the pixels sample the seeing."
     Params = SamplingParams
     outputs = (
-        Output("pixel_scale_arcsec", "arcsec", "Angle on the sky covered by one pixel."),
-        Output("field_width_arcmin", "arcmin", "Field of view along the sensor's width."),
-        Output("field_height_arcmin", "arcmin", "Field of view along the sensor's height."),
-        Output("field_diagonal_arcmin", "arcmin", "Field of view along the sensor's diagonal."),
-        Output("pixels_per_fwhm", "", "Pixels across the seeing FWHM."),
+        Output("pixel_scale_arcsec", "arcsec", "Angle on the sky covered by one pixel.", label="Pixel scale"),
+        Output("field_width_arcmin", "arcmin", "Field of view along the sensor's width.",
+               label="Field width"),
+        Output("field_height_arcmin", "arcmin", "Field of view along the sensor's height.",
+               label="Field height"),
+        Output("field_diagonal_arcmin", "arcmin", "Field of view along the sensor's diagonal.",
+               label="Field diagonal"),
+        Output("pixels_per_fwhm", "", "Pixels across the seeing FWHM.", label="Pixels per seeing FWHM"),
         Output("sampling_verdict", "", "under-sampled, well-sampled or over-sampled, by the "
-               "min/max pixels per FWHM criterion.", kind="text"),
-        Output("suggested_binning", "", "Coarsest binning that keeps at least min_pixels_per_fwhm."),
+               "min/max pixels per FWHM criterion.", kind="text", label="Sampling"),
+        Output("suggested_binning", "", "Coarsest binning that keeps at least min_pixels_per_fwhm.",
+               label="Suggested binning", integer=True),
         Output("colour_pixel_scale_arcsec", "arcsec", "Sampling of each colour: twice the pixel scale "
-               "for a colour (Bayer) sensor, the pixel scale for a mono one.", nullable=True),
-        Output("colour_pixels_per_fwhm", "", "Seeing FWHM over the colour sampling.", nullable=True),
+               "for a colour (Bayer) sensor, the pixel scale for a mono one.", nullable=True,
+               label="Colour pixel scale"),
+        Output("colour_pixels_per_fwhm", "", "Seeing FWHM over the colour sampling.", nullable=True,
+               label="Colour pixels per seeing FWHM"),
     )
     # Renamed in 1.1.0; the old names are still accepted in evaluations for one release.
     renamed_outputs = {

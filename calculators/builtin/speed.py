@@ -79,15 +79,16 @@ class Speed(Calculator):
     summary = "Effective focal ratio and exposure time relative to the baseline, per pixel and per sky area."
     Params = NoParams
     outputs = (
-        Output("focal_ratio", "", "Effective focal ratio N = f/D after the modifier."),
-        Output("effective_focal_length_mm", "mm", "Focal length after the modifier."),
-        Output("throughput", "", "Fraction of light reaching the sensor (telescope × modifier)."),
+        Output("focal_ratio", "", "Effective focal ratio N = f/D after the modifier.", label="Focal ratio"),
+        Output("effective_focal_length_mm", "mm", "Focal length after the modifier.", label="Focal length"),
+        Output("throughput", "", "Fraction of light reaching the sensor (telescope × modifier).",
+               label="Throughput"),
         Output("time_factor_per_pixel", "",
                "Exposure time for equal signal per pixel from an extended object, relative to the "
-               "baseline (∝ 1/(A·τ·Ω_pixel)).", relative=True),
+               "baseline (∝ 1/(A·τ·Ω_pixel)).", relative=True, label="Time per pixel"),
         Output("time_factor_per_arcsec2", "",
                "Exposure time for equal signal per unit sky area, relative to the baseline "
-               "(∝ 1/(A·τ)).", relative=True),
+               "(∝ 1/(A·τ)).", relative=True, label="Time per sky area"),
     )
     sources = (
         "Camera equation E = π·L·τ/(4·N²) for an extended source (e.g. Smith, Modern Optical "

@@ -75,17 +75,23 @@ class TargetFit(Calculator):
     Params = TargetFitParams
     outputs = (
         Output("target_name", "", "The object as found in OpenNGC, with its Messier number and common "
-               "name.", kind="text"),
-        Output("target_major_arcmin", "arcmin", "Major axis of the object (OpenNGC)."),
-        Output("target_minor_arcmin", "arcmin", "Minor axis (the major axis when OpenNGC gives only one)."),
-        Output("field_width_arcmin", "arcmin", "Field along the sensor's width, 2·atan(W/2f)."),
-        Output("field_height_arcmin", "arcmin", "Field along the sensor's height, 2·atan(H/2f)."),
-        Output("major_axis_px", "pixel", "Pixels across the object's major axis."),
-        Output("fill_fraction", "", "Area of the object's ellipse over the area of the field."),
+               "name.", kind="text", label="Target"),
+        Output("target_major_arcmin", "arcmin", "Major axis of the object (OpenNGC).",
+               label="Target major axis"),
+        Output("target_minor_arcmin", "arcmin", "Minor axis (the major axis when OpenNGC gives only one).",
+               label="Target minor axis"),
+        Output("field_width_arcmin", "arcmin", "Field along the sensor's width, 2·atan(W/2f).",
+               label="Field width"),
+        Output("field_height_arcmin", "arcmin", "Field along the sensor's height, 2·atan(H/2f).",
+               label="Field height"),
+        Output("major_axis_px", "pixel", "Pixels across the object's major axis.",
+               label="Target major axis in pixels"),
+        Output("fill_fraction", "", "Area of the object's ellipse over the area of the field.",
+               label="Field filled"),
         Output("fits_in_field", "", "Whether the ellipse fits with its major axis along the long side.",
-               kind="boolean"),
+               kind="boolean", label="Fits in field"),
         Output("panels", "", "Mosaic panels to cover the object's bounding box with the overlap param, "
-               "in the better orientation."),
+               "in the better orientation.", label="Mosaic panels", integer=True),
     )
     sources = (
         f"Object sizes: {CREDIT}",

@@ -90,7 +90,10 @@ def evaluate(
 
     batch = RigBatch.from_components(*lists, baseline=base)
     units: dict[str, str] = {}
+    labels: dict[str, str] = {}
     for name, plan in plans.items():
+        shown = {o.name: o.shown_label for o in plan.calculator.outputs}
+        labels.update({f"{name}.{out}": shown[out] for out in plan.outputs})
         # Called on the whole sweep batch first, so a calculator that refuses a batch as a whole
         # (prices in several currencies) refuses it whatever the chunking.
         given = guarded(plan, lambda p=plan: dict(p.calculator.output_units(batch, p.params)))
@@ -140,6 +143,7 @@ def evaluate(
         baseline=rows(np.array([base_flat]), [base_score])[0],
         baseline_feasible=base_score is not None,
         units={key: units[key] for key in keys},
+        labels={key: labels[key] for key in keys},
         cautions={name: list(p.calculator.cautions) for name, p in plans.items()
                   if p.calculator.cautions},
     )

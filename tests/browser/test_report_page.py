@@ -217,3 +217,32 @@ def test_a_private_report_is_not_found_for_others_and_found_for_its_owner(tab, d
     owner = httpx.get(f"{url}{private['report_url']}", headers={"Authorization": f"Bearer {info.member_key}"})
     assert owner.status_code == 200 and "Orla&#39;s private plan" in owner.text
     assert tab.blocked == []
+
+
+def test_after_a_price_change_the_saved_page_says_so_and_the_page_now_shows_what_changed(tab, demo, two_objectives):
+    url, info = demo
+    headers = {"Authorization": f"Bearer {info.club_key}"}
+    mount_id = _ids(url, "mounts")[1]
+    mount = httpx.get(f"{url}/v1/mounts/{mount_id}").json()
+    changed = httpx.patch(f"{url}/v1/mounts/{mount_id}", headers=headers,
+                          json={"price": {"amount": mount["price"]["amount"] / 2, "currency": "EUR"}})
+    assert changed.status_code == 200, changed.text
+    try:
+        tab.page.goto(f"{url}{two_objectives['report_url']}")
+        notice = tab.page.locator("#equipment-status")
+        assert notice.is_visible() and "has changed: price" in notice.inner_text()
+        # The saved answer is still what is drawn.
+        front = drawn(tab.page, "trade-off", "[data-front='true']")
+        assert sorted(p["indices"] for p in front) == sorted(indices(r) for r in two_objectives["result"]["front"])
+        tab.page.get_by_role("link", name="Run it again with the equipment as it is now").click()
+        tab.page.wait_for_load_state()
+        assert tab.page.url.endswith(f"{two_objectives['report_url']}/now")
+        rerun = httpx.post(f"{url}/v1/evaluations/saved/{two_objectives['id']}/rerun").json()
+        front = drawn(tab.page, "trade-off", "[data-front='true']")
+        assert sorted(p["indices"] for p in front) == sorted(indices(r) for r in rerun["result"]["front"])
+        assert tab.page.locator("#changes [data-change='value']").count() == min(len(rerun["changes"]["values"]), 50)
+        assert_contrast(tab.page)
+        tab.page.screenshot(path=str(ARTIFACTS / "report-now.png"))
+        assert tab.blocked == [] and tab.errors == []
+    finally:
+        httpx.patch(f"{url}/v1/mounts/{mount_id}", headers=headers, json={"price": mount["price"]})

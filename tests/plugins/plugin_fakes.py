@@ -57,7 +57,7 @@ class Good(Calculator):
     version = "1.2.0"
     summary = "Aperture times a scale factor."
     Params = GoodParams
-    outputs = (Output("scaled_aperture_mm", "mm", "Aperture times the scale param."),)
+    outputs = (Output("scaled_aperture_mm", "mm", "Aperture times the scale param.", label="Scaled aperture"),)
     sources = ("Multiplication.",)
 
     def compute(self, batch, params):
@@ -108,6 +108,16 @@ class DuplicateOutputs(Good):
         Output("scaled_aperture_mm", "mm", "First."),
         Output("scaled_aperture_mm", "mm", "Second with the same name."),
     )
+
+
+class Unlabelled(Good):
+    """An output without a label, as plugins written before labels existed declare it."""
+
+    outputs = (Output("scaled_aperture_mm", "mm", "Aperture times the scale param."),)
+
+
+class EmptyLabel(Good):
+    outputs = (Output("scaled_aperture_mm", "mm", "Blank label.", label=" "),)
 
 
 class RenamedToNothing(Good):

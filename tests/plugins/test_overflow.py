@@ -24,7 +24,7 @@ class TenToTheAperture(Calculator):
     version = "1.0.0"
     summary = "Grows too fast on purpose."
     Params = NoParams
-    outputs = (Output("value", "", "10 to the power 1.6 D."),)
+    outputs = (Output("value", "", "10 to the power 1.6 D.", label="Ten to the aperture"),)
     sources = ("Arithmetic.",)
 
     def compute(self, batch, params):

@@ -90,6 +90,7 @@ CONTRACT_VIOLATIONS = [
     ("UnknownUnit", "unit 'lumens per banana' is not one pint can read"),
     ("HugeUnit", "unit '9**9**9 mm' is not a plain unit expression"),
     ("DuplicateOutputs", "output name(s) scaled_aperture_mm declared more than once"),
+    ("EmptyLabel", "label must be a non-empty string of at most 40 characters"),
     ("RenamedToNothing", "renamed to 'no_such_output', which is not a declared output"),
     ("RenamedStillDeclared", "old name 'scaled_aperture_mm' is still a declared output"),
     ("BadOutputKind", "kind 'complex' is not one of number, text, boolean"),
@@ -116,6 +117,26 @@ def test_a_contract_violation_is_refused_with_its_reason_and_the_rest_loads(targ
     assert broken.reason.startswith("breaks the calculator contract: ")
     assert reason in broken.reason
     assert list(registry.calculators) == ["light_grasp"]
+
+
+def test_a_third_party_output_without_a_label_loads_with_one_derived_from_its_name():
+    registry = load_registry([entry_point("good", "plugin_fakes:Unlabelled")])
+    [output] = registry.get("good").outputs
+    assert output.label is None and output.shown_label == "Scaled aperture"
+
+
+def test_a_builtin_output_without_a_label_is_refused():
+    registry = load_registry([builtin("good", "plugin_fakes:Unlabelled")])
+    refused = entry(registry, "good")
+    assert refused.status == "failed"
+    assert "output 'scaled_aperture_mm': a built-in output needs a label" in refused.reason
+
+
+def test_every_builtin_output_has_a_label():
+    registry = load_registry()
+    for name, calculator in registry.calculators.items():
+        if registry.origin(name).builtin:
+            assert all(o.label for o in calculator.outputs), name
 
 
 def test_validate_accepts_the_model_calculator():

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import re
 import xml.etree.ElementTree as ET
 
 import pytest
@@ -59,9 +60,37 @@ def test_the_comparison_table_rows_are_the_apis_comparison(client, demo):
 
 def test_every_header_of_a_dimensioned_figure_names_its_unit(client, demo):
     headers = table_by_id(page(client).text, "comparison-table").headers()
-    for wanted in ("Focal length [mm]", "Clear area [mm²]", "Light grasp [× baseline]", "Pixel scale [″/pixel]",
-                   "Field width [′]", "Payload [kg]", "Price [EUR]", "Time per pixel [× baseline]"):
+    for wanted in ("Focal length [mm]", "Clear area [mm²]", "Light grasp [× baseline]", "Pixel scale [arcsec]",
+                   "Field width [arcmin]", "Payload [kg]", "Price [EUR]", "Time per pixel [× baseline]"):
         assert wanted in headers, headers
+
+
+def test_every_figure_is_headed_by_its_label_and_unit_with_its_key_kept(client, demo):
+    html = page(client).text
+    api = client.get("/v1/calculators").json()["items"]
+    labels = {f"{c['name']}.{o['name']}": o["label"] for c in api for o in c["outputs"]}
+    rows = [r for r in elements(html, "tr") if r.get("data-output")]
+    assert {r["data-output"] for r in rows} == set(labels)
+    headings = [r for r in elements(html, "th") if r.get("scope") == "row" and r.get("title") in labels]
+    assert len(headings) == len(labels)
+    # Units as printed, never pint's spelling; no raw float noise in any cell.
+    text = html.split("Every figure from every calculator")[1].split("</details>")[0]
+    assert "Étendue [m²·deg²]" in text and "Price per aperture area [EUR/cm²]" in text
+    assert "mm^2" not in text and "_mm [" not in text
+    shown = re.sub(r'data-value="[^"]*"', "", text)
+    assert "9999" not in shown and "0000" not in shown  # sensible digits in the text
+    # Counts are whole numbers.
+    spikes = table_cells(html, "diffraction_spikes.spike_count")
+    assert spikes and all(t in ("—",) or t.isdigit() for t in spikes)
+
+
+def table_cells(html: str, key: str) -> list[str]:
+    return re.findall(rf'<td class="[a-z]+" data-output="{re.escape(key)}" data-value="[^"]*">([^<]*)</td>', html)
+
+
+def test_the_diagrams_heading_cannot_be_read_as_photographs(client, demo):
+    html = page(client).text
+    assert ">Diagrams</h2>" in html and ">Pictures<" not in html
 
 
 def test_the_baseline_and_target_come_from_the_form(client, demo):

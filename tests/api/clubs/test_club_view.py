@@ -2,10 +2,6 @@
 
 from __future__ import annotations
 
-import math
-
-import pytest
-
 from api.clubs import view as club_view
 from api.clubs.schemas import ClubComparison
 from plugins.results import CalculatorResult, OutputValues, RigRef
@@ -18,14 +14,18 @@ def comparison(results: dict[str, CalculatorResult], n: int = 2, baseline: int =
     )
 
 
-def result(outputs: dict[str, tuple[str, list]], error: str | None = None) -> CalculatorResult:
-    return CalculatorResult(version="1.0.0", error=error, cautions=["Mind the Sun."],
-                            outputs={k: OutputValues(unit=u, values=v) for k, (u, v) in outputs.items()})
+def result(outputs: dict[str, tuple], error: str | None = None) -> CalculatorResult:
+    """``{"name": (unit, values)}`` or ``(unit, values, label)``."""
+    return CalculatorResult(version="1.0.0", error=error, cautions=["Mind the Sun."], outputs={
+        k: OutputValues(unit=spec[0], values=spec[1], label=spec[2] if len(spec) > 2 else "")
+        for k, spec in outputs.items()
+    })
 
 
 def test_columns_of_a_failed_or_missing_calculator_are_left_out_and_the_failure_noted():
     table = club_view.comparison_table(comparison({
-        "light_grasp": result({"clear_area_mm2": ("mm^2", [10.0, 20.0]), "area_ratio": ("", [1.0, 2.0])}),
+        "light_grasp": result({"clear_area_mm2": ("mm^2", [10.0, 20.0], "Clear area"),
+                               "area_ratio": ("", [1.0, 2.0], "Light grasp")}),
         "speed": result({}, error="speed broke"),
     }))
     assert table.headers == ["Clear area [mm²]", "Light grasp [× baseline]"]
@@ -35,33 +35,46 @@ def test_columns_of_a_failed_or_missing_calculator_are_left_out_and_the_failure_
 
 
 def test_the_unit_in_a_header_is_the_one_the_api_reports_when_not_fixed():
-    table = club_view.comparison_table(comparison({"cost": result({"total_price": ("CHF", [100.0, None])})}))
+    table = club_view.comparison_table(comparison({"cost": result({"total_price": ("CHF", [100.0, None], "Price")})}))
     assert table.headers == ["Price [CHF]"]
     assert [c.text for c in table.rows[1].cells] == ["—"] and table.rows[1].cells[0].value == "null"
 
 
-def test_every_figure_lists_every_output_with_its_unit():
+def test_every_figure_is_headed_by_its_label_and_unit_keeping_the_key():
     groups = club_view.all_figures(comparison({
-        "sampling": result({"pixel_scale_arcsec": ("arcsec", [1.0, 2.0]), "sampling_verdict": ("", ["a", "b"])}),
-    }))
-    [group] = groups
-    assert [heading for heading, _ in group.rows] == ["pixel_scale_arcsec [″]", "sampling_verdict"]
-    assert [c.kind for c in group.rows[1][1]] == ["text", "text"]
-    assert [c.kind for c in group.rows[0][1]] == ["number", "number"]
+        "sampling": result({"pixel_scale_arcsec": ("arcsec", [1.0, 2.0], "Pixel scale"),
+                            "sampling_verdict": ("", ["a", "b"], "Sampling"),
+                            "suggested_binning": ("", [2.0, 1.0], "Suggested binning")}),
+        "cost": result({"price_per_cm2": ("EUR/cm^2", [304.79999999999995, 12.345], "Price per aperture area")}),
+    }), counts={"sampling.suggested_binning"})
+    sampling, cost = groups
+    assert [f.heading for f in sampling.rows] == ["Pixel scale [arcsec]", "Sampling", "Suggested binning"]
+    assert [f.key for f in sampling.rows] == ["sampling.pixel_scale_arcsec", "sampling.sampling_verdict",
+                                              "sampling.suggested_binning"]
+    assert [c.kind for c in sampling.rows[1].cells] == ["text", "text"]
+    assert [c.kind for c in sampling.rows[0].cells] == ["number", "number"]
+    # A count reads as a whole number; a price with sensible digits, the exact value kept beside it.
+    assert [c.text for c in sampling.rows[2].cells] == ["2", "1"]
+    assert cost.rows[0].heading == "Price per aperture area [EUR/cm²]"
+    assert [c.text for c in cost.rows[0].cells] == ["305", "12.3"]
+    assert cost.rows[0].cells[0].value == "304.79999999999995"
+
+
+def test_a_plugin_output_without_a_label_is_headed_by_its_key():
+    [group] = club_view.all_figures(comparison({"dew": result({"dew_margin_k": ("K", [1.0, 2.0])})}))
+    assert group.rows[0].heading == "dew_margin_k [K]"
+
+
+def test_counts_are_the_outputs_declared_integer():
+    from plugins.registry import load_registry
+
+    assert {"diffraction_spikes.spike_count", "integration_time.sub_exposures", "target_fit.panels",
+            "sampling.suggested_binning"} <= club_view.counts(load_registry())
 
 
 def test_cautions_are_gathered_once():
     both = comparison({"a": result({}), "b": result({})})
     assert club_view.cautions(both) == ["Mind the Sun."]
-
-
-@pytest.mark.parametrize("value, text", [
-    (None, "—"), (True, "yes"), (False, "no"), ("over-sampled", "over-sampled"), (math.nan, "—"),
-    (62831.85, "62832"), (65.31, "65.3"), (4.0, "4.00"), (0.0, "0.00"), (0.6527, "0.653"), (0.08, "0.0800"),
-    (-12.34, "-12.3"),
-])
-def test_numbers_read_to_three_or_more_significant_figures(value, text):
-    assert club_view.number_text(value) == text
 
 
 def test_pictures_need_the_calculators_they_draw():

@@ -89,11 +89,14 @@ def test_a_person_or_an_unknown_handle_is_not_a_club(client, alice):
 
 def test_equipment_shows_the_clubs_public_items_only(client, club, alice):
     public = store(client, club, "telescopes")
-    store(client, club, "telescopes", "private", name="kept private")
+    private = store(client, club, "telescopes", "private", name="kept private")
     store(client, alice, "telescopes")  # someone else's public item
     camera = store(client, club, "cameras")
-    # A key changes nothing here: the club's own key still sees only the public view.
-    for headers in ({}, club.headers):
+    # The key of someone outside the club changes nothing; the club's own key (like its officers')
+    # sees its private items too (api.clubs.shelf).
+    owner_view = client.get("/v1/clubs/lakeside-astro/equipment", headers=club.headers).json()
+    assert [t["id"] for t in owner_view["telescopes"]] == [public, private]
+    for headers in ({}, alice.headers):
         body = client.get("/v1/clubs/lakeside-astro/equipment", headers=headers).json()
         assert [t["id"] for t in body["telescopes"]] == [public]
         assert [c["id"] for c in body["cameras"]] == [camera]
@@ -258,7 +261,7 @@ def test_the_comparison_as_csv_has_a_row_per_rig_and_units_in_headers(app, clien
     assert [int(r["rig_id"]) for r in table] == ids
     assert [r["baseline"] for r in table] == ["false", "true", "false"]
     assert float(table[1]["light_grasp.area_ratio"]) == 1.0
-    assert "light_grasp.clear_area_mm2 [mm^2]" in table[0]
+    assert "light_grasp.clear_area_mm2 [mm²]" in table[0]
     assert "kestrel-ridge-astro-comparison.csv" in response.headers["content-disposition"]
 
 

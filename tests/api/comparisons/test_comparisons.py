@@ -9,6 +9,7 @@ import math
 import pytest
 from rigbench_testing import CAMERA, INLINE_RIG, MODIFIER, TELESCOPE, assert_problem
 
+from api.display import unit_text
 from calculators.base import Calculator, Output
 from plugins.registry import CalculatorEntry, Registry
 
@@ -153,7 +154,7 @@ def test_a_failing_calculator_gets_its_error_and_the_others_still_answer(app, cl
     assert body["results"]["light_grasp"]["error"] is None
     table = client.post("/v1/comparisons", json={"rigs": [INLINE_RIG]}, headers={"Accept": "text/csv"}).text
     header = next(csv.reader(io.StringIO(table)))
-    assert "broken.error" in header and "light_grasp.clear_area_mm2 [mm^2]" in header
+    assert "broken.error" in header and "light_grasp.clear_area_mm2 [mm²]" in header
 
 
 def test_csv_is_the_same_comparison_as_a_table(client):
@@ -166,7 +167,8 @@ def test_csv_is_the_same_comparison_as_a_table(client):
     assert len(rows) == 2
     outputs = data["results"]["light_grasp"]["outputs"]
     for name, output in outputs.items():
-        column = f"light_grasp.{name} [{output['unit']}]" if output["unit"] else f"light_grasp.{name}"
+        # The unit as the page prints it (api.display), the key as scripts look it up.
+        column = f"light_grasp.{name} [{unit_text(output['unit'])}]" if output["unit"] else f"light_grasp.{name}"
         assert [float(r[column]) for r in rows] == output["values"]
     assert [r["baseline"] for r in rows] == ["false", "true"]
     # A name a spreadsheet would run as a formula is written as text (OWASP, CSV injection).

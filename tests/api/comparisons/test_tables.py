@@ -21,7 +21,7 @@ def test_one_row_per_rig_one_column_per_output_with_units():
     assert "\r\n" in text  # RFC 4180 line breaks
     rows = list(csv.reader(io.StringIO(text)))
     assert rows == [
-        ["rig_id", "rig", "baseline", "calc.area [mm^2]", "calc.ok", "null_reasons"],
+        ["rig_id", "rig", "baseline", "calc.area [mm²]", "calc.ok", "null_reasons"],
         ["3", "a", "true", "1.5", "true", ""],
         ["", "b, with comma", "false", "", "false", ""],
     ]

@@ -22,6 +22,23 @@ def test_one_calculator_describes_outputs_params_sources_and_origin(client, app)
     assert body["origin"]["builtin"] is True and body["origin"]["distribution"] == "rigbench"
 
 
+def test_every_output_is_listed_with_a_label_beside_its_unit(client):
+    items = client.get("/v1/calculators").json()["items"]
+    outputs = {(c["name"], o["name"]): o for c in items for o in c["outputs"]}
+    assert all(o["label"] and len(o["label"]) <= 40 for o in outputs.values())
+    assert outputs[("sampling", "pixel_scale_arcsec")]["label"] == "Pixel scale"
+    assert outputs[("guiding", "pixel_scale_arcsec")]["label"] == "Pixel scale"  # one name, one label
+    assert outputs[("diffraction_spikes", "spike_count")]["integer"] is True
+    assert outputs[("light_grasp", "clear_area_mm2")]["integer"] is False
+
+
+def test_a_comparison_carries_each_output_s_label(client):
+    from rigbench_testing import INLINE_RIG
+
+    body = client.post("/v1/comparisons", json={"rigs": [INLINE_RIG], "calculators": ["sampling"]}).json()
+    assert body["results"]["sampling"]["outputs"]["field_width_arcmin"]["label"] == "Field width"
+
+
 def test_every_listed_calculator_can_be_fetched(client):
     for item in client.get("/v1/calculators").json()["items"]:
         assert client.get(f"/v1/calculators/{item['name']}").json() == item

@@ -88,14 +88,26 @@ def test_the_database_itself_refuses_to_orphan_a_rig(app, client, alice):
         session.commit()
 
 
-def test_equipment_others_rely_on_cannot_turn_private(client, alice, bob):
+def test_other_accounts_rigs_keep_a_copy_when_the_owner_makes_it_private(client, alice, bob):
     scope = store(client, alice, "telescopes", "public")
-    client.post("/v1/rigs", json={"name": "bob's", "telescope": {"id": scope}, "camera": CAMERA}, headers=bob.headers)
+    rig = client.post("/v1/rigs", json={"name": "bob's", "telescope": {"id": scope}, "camera": CAMERA},
+                      headers=bob.headers).json()
+    # Bob's rig cannot block alice (it used to be a 409 naming "private rig(s) of other accounts").
+    assert client.patch(f"/v1/telescopes/{scope}", json={"visibility": "private"}, headers=alice.headers).status_code == 200
+    after = client.get(f"/v1/rigs/{rig['id']}", headers=bob.headers).json()
+    assert after["resolved"]["telescope"] == rig["resolved"]["telescope"]
+    assert after["telescope"]["aperture_mm"] == TELESCOPE["aperture_mm"]  # a copy, no longer a reference
+    assert after["copied_parts"][0]["reason"] == "made private" and not after["uses_retired_equipment"]
+
+
+def test_own_public_rigs_still_need_the_equipment_public(client, alice):
+    scope = store(client, alice, "telescopes", "public")
+    rig = client.post("/v1/rigs", json={"name": "r", "telescope": {"id": scope}, "camera": CAMERA,
+                                        "visibility": "public"}, headers=alice.headers).json()
     body = assert_problem(
         client.patch(f"/v1/telescopes/{scope}", json={"visibility": "private"}, headers=alice.headers), 409
     )
-    # Bob's rig is private: alice learns that one exists, not which.
-    assert body["rigs"] == [] and body["hidden_rigs"] == 1
+    assert body["rigs"] == [rig["id"]] and body["hidden_rigs"] == 0
 
 
 def test_a_change_that_would_break_a_rig_is_refused(client, alice):

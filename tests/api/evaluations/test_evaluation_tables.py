@@ -26,7 +26,7 @@ def test_front_then_top_then_baseline_with_units_and_empty_cells_for_null():
     assert text.endswith("\r\n")  # RFC 4180 line breaks
     assert list(csv.reader(io.StringIO(text))) == [
         ["set", "rank", "telescope", "camera", "modifier", "mount", "telescope_id", "camera_id",
-         "modifier_id", "mount_id", "light.area [mm^2]", "cost.price", "score"],
+         "modifier_id", "mount_id", "light.area [mm²]", "cost.price", "score"],
         ["front", "1", "0", "0", "0", "0", "7", "", "", "", "2.5", "", "0.0"],
         ["front", "2", "2", "0", "0", "0", "", "", "", "", "1.0", "100.0", "1.0"],
         ["top", "1", "0", "0", "0", "0", "7", "", "", "", "2.5", "", "0.0"],
@@ -40,7 +40,7 @@ def test_floats_keep_every_digit():
                               baseline=row(0, 0.0, value, 1.0), baseline_feasible=True,
                               units={"light.area": "mm^2", "cost.price": "EUR"})
     lines = list(csv.DictReader(io.StringIO(evaluation_csv(result))))
-    assert float(lines[0]["light.area [mm^2]"]) == value
+    assert float(lines[0]["light.area [mm²]"]) == value
 
 
 def test_the_calculators_cautions_follow_the_table_in_a_final_block():

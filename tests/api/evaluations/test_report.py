@@ -124,7 +124,7 @@ def test_each_sheet_lists_parts_prices_bounds_and_cautions():
         # Nothing is owned in this request: the purchase is the whole combination, the cost calculator's total.
         assert sheet["purchase"] == sheet["total"] == f"{total:,.2f} EUR"
         assert total == pytest.approx(row.values["cost.total_price"])
-        assert [c["key"] for c in sheet["constraints"]] == list(spec.constraints)
+        assert [c["key"] for c in sheet["constraints"]] == [k for k in spec.constraints if k not in spec.objectives]
         assert any("Sun" in c for c in sheet["cautions"])
         if getattr(row.indices, "mount") is not None and MOUNTS[row.indices.mount] is not None:
             assert any("counterweight" in c.lower() for c in sheet["cautions"])
@@ -180,3 +180,12 @@ def test_an_old_output_name_draws_the_same_chart_as_the_new_one():
         assert front_drawn(str(page["tradeoff"])) == sorted(key(r) for r in result.front)
         pages.append(str(page["tradeoff"]))
     assert pages[0] == pages[1] and 'data-set="feasible-sample"' in pages[0]
+
+
+def test_an_output_both_constrained_and_optimised_is_one_row_with_its_bound():
+    spec, components, result = answer(request(objectives={"cost.total_price": "min",
+                                                          "payload.capacity_fraction": "min"}))
+    sheet = report.context(spec, components, result, REGISTRY)["sheets"][0]
+    assert [c["key"] for c in sheet["constraints"]] == ["sampling.pixel_scale_arcsec"]
+    row = next(o for o in sheet["objectives"] if o["key"] == "payload.capacity_fraction")
+    assert row["bounds"] == "at most 0.8"

@@ -221,3 +221,21 @@ def test_a_site_fills_the_params_as_in_the_unsaved_route_and_the_page_names_it(c
     assert page.status_code == 200 and 'id="site"' in page.text and "hill top" in page.text
     rerun = client.post(f"/v1/evaluations/saved/{item['id']}/rerun", headers=alice.headers).json()
     assert rerun["result"] == reference and rerun["changes"]["values"] == []
+
+
+def test_the_page_run_again_now_shows_what_a_price_change_did(client, alice, bob):
+    scope_id, item = _with_stored_telescope(client, alice)
+    saved_page = client.get(item["report_url"], headers=alice.headers).text
+    assert f'href="{item["report_url"]}/now"' not in saved_page  # nothing changed: no notice
+    client.patch(f"/v1/telescopes/{scope_id}", json={"price": {"amount": 60, "currency": "EUR"}}, headers=alice.headers)
+    saved_page = client.get(item["report_url"], headers=alice.headers).text
+    assert f'href="{item["report_url"]}/now"' in saved_page
+    page = client.get(f"{item['report_url']}/now", headers=alice.headers)
+    assert page.status_code == 200
+    assert "What changed since it was saved" in page.text
+    rerun = client.post(f"/v1/evaluations/saved/{item['id']}/rerun", headers=alice.headers).json()
+    moved = [v for v in rerun["changes"]["values"]]
+    assert page.text.count('data-change="value"') == min(len(moved), 50) > 0
+    assert page.text.count('data-front="true"') == len(rerun["result"]["front"])
+    assert TELESCOPES[0]["name"] in page.text
+    assert client.get(f"{item['report_url']}/now", headers={**bob.headers, "Accept": "text/html"}).status_code == 404

@@ -95,13 +95,15 @@ class Dew(Calculator):
     summary = "Dew point, dew margin of the front optic and the net heating power that keeps it dry."
     Params = DewParams
     outputs = (
-        Output("dew_point_c", "degC", "Dew point of the air (Magnus form)."),
-        Output("optics_temperature_c", "degC", "Temperature of the unheated front optic under the sky."),
+        Output("dew_point_c", "degC", "Dew point of the air (Magnus form).", label="Dew point"),
+        Output("optics_temperature_c", "degC", "Temperature of the unheated front optic under the sky.",
+               label="Optics temperature"),
         Output("dew_margin_k", "K", "Optics temperature minus dew point, a difference in kelvin; dew forms "
-               "below zero."),
-        Output("dew_risk", "", "True when the dew margin is below the safety margin.", kind="boolean"),
+               "below zero.", label="Dew margin"),
+        Output("dew_risk", "", "True when the dew margin is below the safety margin.", kind="boolean",
+               label="Dew risk"),
         Output("heating_power_w", "W", "Net heat the front optic needs to stay the safety margin above the "
-               "dew point (0 when it already does)."),
+               "dew point (0 when it already does).", label="Heating power"),
     )
     # Renamed in 1.1.0; the old name is still accepted in evaluations for one release.
     renamed_outputs = {"dew_margin_c": "dew_margin_k"}
