@@ -14,12 +14,14 @@ or run everything at once with :func:`check_calculator`. Each check is driven by
 generic rigs (specifications only, no real products) and raises ``AssertionError`` naming what broke:
 
 ``contract``           loads through the registry from a fake entry point, as the service loads it
-                       (:func:`plugins.registry.validate`: names, version, outputs, units, Params).
+                       (:func:`plugins.registry.validate`: names, version, outputs, units, labels,
+                       Params; a built-in's outputs need labels).
 ``params_defaults``    ``Params()`` validates, survives a JSON round trip, and computes through
                        :func:`plugins.compare.compare` with no params for any rigs.
 ``declared_outputs``   every declared output comes back, fits the batch's shape without growing it
                        (a sweep column stays at the axes it depends on), has its kind's dtype, is
-                       finite unless declared ``nullable``, and has a unit pint can read.
+                       finite unless declared ``nullable``, whole if declared ``integer``, and has
+                       a unit pint can read.
 ``batch_equals_rows``  each row of a comparison equals that rig computed beside the baseline alone.
 ``sweep_equals_rows``  a sweep (telescopes × cameras × modifiers × mounts, any baseline) equals,
                        combination by combination, one row per combined rig.
@@ -149,8 +151,10 @@ class Check:
 
 
 def _contract(check: Check) -> None:
+    # rigbench's own calculators (in calculators/) are held to the built-ins' rules: labels required.
+    builtin = type(check.calculator).__module__.startswith("calculators.")
     try:
-        validate(check.calculator)
+        validate(check.calculator, require_labels=builtin)
     except ContractError as exc:
         raise AssertionError(f"{check.calculator.name} breaks the calculator contract: {exc}") from None
     cls = type(check.calculator)
@@ -180,7 +184,11 @@ def _params_defaults(check: Check) -> None:
 
 
 def _check_shapes(calculator, batch: RigBatch, params) -> None:
-    _run(calculator, batch, params)
+    values = _run(calculator, batch, params)
+    for output in calculator.outputs:
+        if output.integer:  # a count: whole numbers (or null where declared nullable)
+            v = np.asarray(values[output.name], dtype=float)
+            assert np.all(np.isnan(v) | (v == np.round(v))), f"{output.name}: counts must be whole, got {v}"
     raw = calculator.compute(batch, params)
     for output in calculator.outputs:
         shape = np.shape(raw[output.name])
