@@ -38,9 +38,9 @@ def compare(
 
     >>> from plugins import compare
     >>> rig = {"name": "8-inch", "telescope": {"aperture_mm": "8 in", "focal_length_mm": 1000},
-    ...        "camera": {"pixel_size_um": 3.76, "width_px": 6248, "height_px": 4176}}
+    ...        "camera": {"pixel_size_um": 3.8, "width_px": 6000, "height_px": 4000}}
     >>> compare([rig], ["sampling"]).results["sampling"].outputs["pixel_scale_arcsec"].values
-    [0.7755...]
+    [0.7838...]
     """
     registry = registry or load_registry()
     models = [r if isinstance(r, Rig) else Rig.model_validate(r) for r in rigs]

@@ -54,10 +54,10 @@ whole.
 time is the CCD equation's per-pixel time divided by ``f`` (``line_pixel_fraction``). A continuum
 and a mono sensor have ``f = 1``.
 
-Example: a 200 mm f/5 newtonian (70 mm obstruction, throughput 0.81) with 3.76 µm pixels (QE 0.8,
+Example: a 200 mm f/5 newtonian (70 mm obstruction, throughput 0.81) with 3.8 µm pixels (QE 0.8,
 1.5 e⁻ read noise) on a 22 mag/arcsec² surface under a 21 mag/arcsec² sky, 88 nm band: about 0.15 e⁻/s
 of object and 0.38 e⁻/s of sky per pixel; S/N 10 takes about 40 minutes (8 subs of 300 s), and subs
-of 58 s or longer are sky-limited.
+of 57 s or longer are sky-limited.
 """
 
 from __future__ import annotations
