@@ -68,6 +68,7 @@ from pydantic import Field, ValidationInfo, field_validator, model_validator
 from calculators.base import Calculator, Output
 from calculators.batch import RigBatch
 from calculators.builtin import emission_lines as lines
+from calculators.builtin.cautions import SUN_CAUTION
 from calculators.builtin.light_grasp import clear_area_mm2
 from calculators.builtin.optics import effective_focal_length_mm, pixel_scale_arcsec
 from calculators.schemas import Strict
@@ -77,10 +78,6 @@ PLANCK = 6.62607015e-34
 #: AB zero point: f_ν of magnitude 0, W m⁻² Hz⁻¹ (10^(−48.60/2.5) erg s⁻¹ cm⁻² Hz⁻¹; Oke & Gunn 1983).
 AB_ZERO_POINT_W_M2_HZ = 10 ** (-48.60 / 2.5) * 1e-3
 
-SUN_CAUTION = (
-    "Never point a telescope, finder or camera at or near the Sun without a proper full-aperture "
-    "solar filter made for that purpose: it causes instant, permanent eye injury and destroys cameras."
-)
 
 
 class IntegrationTimeParams(Strict):

@@ -14,7 +14,7 @@ from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 from rigbench_testing import CAMERA, INLINE_RIG, TELESCOPE
 
-from plugins.strategies import rig_dicts
+from plugins.testing import rig_dicts
 
 ORDINARY = "/v1/comparisons?lane=ordinary"
 CORE = ["light_grasp", "etendue", "speed", "sampling", "payload", "cost"]
