@@ -51,8 +51,16 @@ def flatten(data: dict[str, Any], prefix: str = "") -> dict[str, Any]:
 def to_csv(kind: str, items: list[dict[str, Any]]) -> str:
     """One kind's items (spec plus visibility) as CSV, formula-looking text escaped."""
     names = columns(kind)
-    rows = [[flatten(item).get(name) for name in names] for item in items]
+    rows = [[_cell(flatten(item).get(name)) for name in names] for item in items]
     return records_csv(names, rows)
+
+
+#: Columns that hold a list (a train element's `designs`): "refractor; newtonian" in one cell.
+LIST_COLUMNS = frozenset({"designs"})
+
+
+def _cell(value: Any) -> Any:
+    return "; ".join(map(str, value)) if isinstance(value, list) else value
 
 
 def unescape(cell: str) -> str:
@@ -76,6 +84,8 @@ def from_csv(text: str) -> tuple[list[str], list[tuple[int, dict[str, Any]]]]:
             if name in METADATA or cell.strip() == "":
                 continue
             value = unescape(cell)
+            if name in LIST_COLUMNS:  # a list in one cell, its entries separated by ";"
+                value = [part.strip() for part in value.split(";") if part.strip()]
             if "." in name:
                 outer, inner = name.split(".", 1)
                 item.setdefault(outer, {})[inner] = value
