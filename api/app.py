@@ -7,12 +7,14 @@ Nothing is built at import time: the engine, the calculator registry and the set
 from __future__ import annotations
 
 import logging
+import secrets
 from collections.abc import AsyncIterator
 from contextlib import asynccontextmanager
 from typing import Any
 
 from fastapi import FastAPI
 from fastapi.middleware.cors import CORSMiddleware
+from starlette.middleware.sessions import SessionMiddleware
 from fastapi.openapi.utils import get_openapi
 from fastapi_offline import FastAPIOffline
 from starlette.concurrency import run_in_threadpool
@@ -20,9 +22,10 @@ from starlette.concurrency import run_in_threadpool
 from api import tuning
 from api.accounts import routes as accounts
 from api.clubs import page as club_page
-from api.clubs import loan_routes, member_routes
+from api.clubs import loan_routes, member_routes, members_page
 from api.clubs import routes as clubs
 from api.comparisons import routes as comparisons
+from api.comparisons.fast_lane import ComparisonFastLane
 from api.discovery import calculators
 from api.discovery import plugins as plugins_routes
 from api.equipment import cameras, modifiers, mounts, retire, rigs, telescopes
@@ -31,12 +34,14 @@ from api.evaluations import routes as evaluations
 from api.evaluations import saved_routes as saved_evaluations
 from api.http import health, problems, request_log
 from api.http.body_limit import BodySizeLimit
+from api.http.edge import Edge
 from api.http.health import _version
 from api.http.ratelimit import RateLimits
 from api.settings import Settings
 from api.sites import default as default_site
 from api.sites import resource as sites
 from api.storage import db
+from api.transfer import routes as transfer
 from plugins.registry import load_registry
 
 log = logging.getLogger("rigbench.api")
@@ -58,7 +63,7 @@ ROUTERS = (
     health, comparisons, calculators, plugins_routes, accounts, telescopes, cameras, modifiers,
     mounts, rigs, sites, default_site, evaluations, saved_evaluations, evaluation_pages, clubs, club_page,
     # club operations (issue 13)
-    retire, member_routes, loan_routes,
+    retire, member_routes, loan_routes, transfer, members_page,
 )
 
 
@@ -75,6 +80,7 @@ def create_app(settings: Settings | None = None) -> FastAPI:
             db.upgrade_if_behind(app.state.engine)
         elif warning := await run_in_threadpool(db.schema_warning, app.state.engine):
             log.warning(warning)
+        tuning.freeze_start_up_objects()  # full collections then skip what start-up built (api.tuning)
         yield
         app.state.engine.dispose()
 
@@ -101,15 +107,26 @@ def create_app(settings: Settings | None = None) -> FastAPI:
     problems.install(app)
     for module in ROUTERS:
         app.include_router(module.router)
-    app.add_middleware(BodySizeLimit, max_bytes=settings.max_body_bytes)
+    # Innermost: anonymous JSON comparisons skip FastAPI's request machinery (api.comparisons.fast_lane).
+    app.add_middleware(ComparisonFastLane)
+    app.add_middleware(BodySizeLimit, max_bytes=settings.max_body_bytes, timeout_s=settings.body_timeout_s)
+    # The members' page sign-in (api.clubs.members_page): a signed, expiring, HTTP-only, same-site cookie.
+    app.add_middleware(
+        SessionMiddleware, secret_key=settings.session_secret or secrets.token_urlsafe(32),
+        session_cookie="rigbench_session", max_age=settings.session_max_age_s, path="/clubs", same_site="lax",
+        https_only=settings.session_cookie_secure,
+    )
     if settings.cors_origins:
         app.add_middleware(
             CORSMiddleware,
             allow_origins=settings.cors_origins,
-            allow_methods=["GET", "POST", "PUT", "PATCH", "DELETE"],
-            allow_headers=["Authorization", "Content-Type", "If-Match", "Accept"],
+            allow_methods=["GET", "HEAD", "POST", "PUT", "PATCH", "DELETE"],
+            allow_headers=["Authorization", "Content-Type", "If-Match", "If-None-Match", "Accept"],
             expose_headers=["ETag", "Location"],
         )
+    # Client address, link origin and HEAD, before anything reads them.
+    app.add_middleware(Edge, trusted_proxies=settings.trusted_proxies, public_url=settings.public_url,
+                       allowed_hosts=settings.allowed_hosts)
     # Outermost, so even a refused oversized body gets a request id and a log line.
     app.add_middleware(request_log.RequestLog, enabled=settings.request_log)
     if settings.request_log:

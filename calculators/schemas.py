@@ -101,7 +101,7 @@ def _old_design(value):
 
 def upgrade_old_telescope(data):
     """A telescope body in the previous release's words, in this release's (see ``OLD_DESIGNS``)."""
-    if isinstance(data, dict) and data.get("design") in OLD_DESIGNS:
+    if isinstance(data, dict) and isinstance(data.get("design"), str) and data["design"] in OLD_DESIGNS:
         data = {**data, "design": OLD_DESIGNS[data["design"]].value}
         if data.get("throughput") is None:
             data["throughput"] = OLD_DESIGN_THROUGHPUT
@@ -235,7 +235,7 @@ OLD_MOUNT_TYPES = {"harmonic-equatorial": (MountType.german_equatorial, Drive.st
 
 def upgrade_old_mount(data):
     """A mount body in the previous release's words, in this release's (see ``OLD_MOUNT_TYPES``)."""
-    if isinstance(data, dict) and data.get("type") in OLD_MOUNT_TYPES:
+    if isinstance(data, dict) and isinstance(data.get("type"), str) and data["type"] in OLD_MOUNT_TYPES:
         kind, drive = OLD_MOUNT_TYPES[data["type"]]
         data = {**data, "type": kind.value}
         if data.get("drive") is None:

@@ -40,7 +40,28 @@ LOAD_WARNING = 0.8
 UNIT_WORDS = {"arcsec", "arcmin", "mm", "um", "kg", "deg", "s", "min", "minutes", "nm", "n", "nm", "mm2", "cm2",
               "m", "w", "k", "c", "px", "mag", "arcsec2", "deg2"}
 
-KIND_WORDS = {"telescope": "Telescope", "camera": "Camera", "modifier": "Modifier", "mount": "Mount"}
+TELESCOPE, MOUNT = AXES.index("telescope"), AXES.index("mount")
+
+KIND_WORDS = {"telescope": "Telescope", "camera": "Camera", "modifier": "Modifier", "train": "Imaging train",
+              "mount": "Mount"}
+
+
+def _items(part) -> list:
+    """The priced things a part is: itself, or each element of a train given as a list."""
+    if part is None:
+        return []
+    return list(part) if isinstance(part, (list, tuple)) else [part]
+
+
+def _price(part):
+    """A part's price, or the sum of its elements' (None when one has none or currencies differ)."""
+    items = _items(part)
+    prices = [getattr(i, "price", None) for i in items]
+    if len(items) == 1:
+        return prices[0]
+    if not items or any(p is None for p in prices) or len({p.currency for p in prices}) > 1:
+        return None
+    return type(prices[0])(amount=sum(p.amount for p in prices), currency=prices[0].currency)
 
 
 @dataclass
@@ -96,16 +117,22 @@ def price_text(price) -> str:
 
 def _describe(kind: str, part) -> str:
     """The few specs that identify a part, in canonical units."""
+    if isinstance(part, (list, tuple)):
+        return ", ".join(_describe(getattr(e, "kind", "element"), e) for e in part) or "nothing between telescope and camera"
     if kind == "telescope":
         return f"{part.aperture_mm:g} mm aperture, {part.focal_length_mm:g} mm focal length (f/{part.focal_length_mm / part.aperture_mm:.1f})"
     if kind == "camera":
         return f"{part.width_px} × {part.height_px} px at {part.pixel_size_um:g} µm"
-    if kind == "modifier":
-        return f"{part.kind} {part.factor:g}×"
-    return f"{part.type}, rated {part.capacity_kg:g} kg" if getattr(part, "capacity_kg", None) else str(part.type)
+    if kind == "mount":
+        return f"{part.type}, rated {part.capacity_kg:g} kg" if getattr(part, "capacity_kg", None) else str(part.type)
+    factor = getattr(part, "factor", None)
+    words = str(getattr(part, "kind", kind))
+    return f"{words} {factor:g}×" if factor is not None else words
 
 
 def _name(kind: str, index: int, part) -> str:
+    if isinstance(part, (list, tuple)):
+        return " + ".join(getattr(e, "name", None) or str(getattr(e, "kind", "element")) for e in part) or f"{kind} {index + 1}"
     return getattr(part, "name", None) or f"{kind} {index + 1}"
 
 
@@ -126,12 +153,13 @@ def _parts(components, row: EvaluationRow, entries: Mapping[tuple[str, int], Ent
     for axis, kind in enumerate(AXES):
         index = _indices(row)[axis]
         part = components[axis][index]
-        if part is None:
+        if not _items(part):
             continue
         entry = entries.get((kind, index))
         parts.append({
-            "kind": KIND_WORDS[kind], "name": _name(kind, index, part), "specs": _describe(kind, part),
-            "price": price_text(part.price), "owned": bool(getattr(part, "owned", False)),
+            "kind": KIND_WORDS.get(kind, kind.capitalize()), "name": _name(kind, index, part),
+            "specs": _describe(kind, part), "price": price_text(_price(part)),
+            "owned": all(bool(getattr(i, "owned", False)) for i in _items(part)),
             "stored_id": entry.id if entry else None, "status": entry.status if entry else None,
         })
     return parts
@@ -141,16 +169,15 @@ def _purchase(components, row: EvaluationRow) -> tuple[str, str]:
     """The price of what is not owned yet, and of the whole combination."""
     buy, total, currencies, missing = 0.0, 0.0, set(), False
     for axis, _kind in enumerate(AXES):
-        part = components[axis][_indices(row)[axis]]
-        if part is None:
-            continue
-        if part.price is None:
-            missing = True
-            continue
-        currencies.add(part.price.currency)
-        total += part.price.amount
-        if not getattr(part, "owned", False):
-            buy += part.price.amount
+        for item in _items(components[axis][_indices(row)[axis]]):
+            price = getattr(item, "price", None)
+            if price is None:
+                missing = True
+                continue
+            currencies.add(price.currency)
+            total += price.amount
+            if not getattr(item, "owned", False):
+                buy += price.amount
     if len(currencies) > 1:
         return "prices in several currencies", "prices in several currencies"
     currency = next(iter(currencies), "")
@@ -163,7 +190,7 @@ def _rig(components, row: EvaluationRow, rank: int) -> dict[str, Any]:
     for axis, kind in enumerate(AXES):
         part = components[axis][_indices(row)[axis]]
         if part is not None:
-            rig[kind] = part
+            rig[kind] = list(part) if isinstance(part, tuple) else part
     return rig
 
 
@@ -231,14 +258,14 @@ def _sheet(rank, row, components, bounds_by_key, objectives, result, calculators
     if load is not None and load > LOAD_WARNING:
         cautions.append(f"This combination loads its mount to {load:.0%} of its rated capacity: above "
                         f"{LOAD_WARNING:.0%} leaves little margin; the mount maker's rating governs.")
-    if components[3][_indices(row)[3]] is not None:
+    if components[MOUNT][_indices(row)[MOUNT]] is not None:
         cautions.append(CAUTIONS[0])
-    telescope = components[0][_indices(row)[0]]
+    telescope = components[TELESCOPE][_indices(row)[TELESCOPE]]
     if (getattr(telescope, "mass_kg", None) or 0) >= 15 or telescope.aperture_mm >= 250:
         cautions.append(CAUTIONS[1])
     cautions.append(CAUTIONS[2])
     for name, calculator in used.items():
-        if (name != "payload" or components[3][_indices(row)[3]] is not None):
+        if (name != "payload" or components[MOUNT][_indices(row)[MOUNT]] is not None):
             cautions += [c for c in calculator.cautions if c not in cautions]
     for texts in result.cautions.values():
         cautions += [c for c in texts if c not in cautions]
@@ -328,8 +355,9 @@ def components_summary(components) -> list[dict]:
         items = []
         for index, part in enumerate(components[axis]):
             items.append("none" if part is None else f"{_name(kind, index, part)}: {_describe(kind, part)}, "
-                         f"{price_text(part.price)}" + (", owned" if getattr(part, "owned", False) else ""))
-        out.append({"kind": KIND_WORDS[kind] + "s", "items": items})
+                         f"{price_text(_price(part))}" + (", owned" if _items(part) and all(
+                             getattr(i, "owned", False) for i in _items(part)) else ""))
+        out.append({"kind": KIND_WORDS.get(kind, kind.capitalize()) + "s", "items": items})
     return out
 
 

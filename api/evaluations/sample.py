@@ -87,7 +87,8 @@ def sample(components: Sequence[Sequence], spec: EvaluationSpec, calculators: Ma
             got = None if outcome is None or outcome.error else outcome.values.get(output)
             values[f"{name}.{output}"] = (np.full(rows.shape, np.nan) if got is None
                                           else np.broadcast_to(np.asarray(got, dtype=np.float64), rows.shape))
-    ratio = columns["focal_length_mm"] * columns["modifier_factor"] / columns["aperture_mm"]
+    factor = columns.get("train_factor", columns.get("modifier_factor"))  # what sits between scope and camera
+    ratio = columns["focal_length_mm"] * factor / columns["aperture_mm"]
     feasible = ratio >= MIN_FOCAL_RATIO
     for key in keys:
         feasible &= np.isfinite(values[key])

@@ -24,14 +24,13 @@ Example: a 1000 EUR telescope of 200 mm aperture with a 60 mm obstruction (A = 2
 
 from __future__ import annotations
 
-from collections.abc import Iterator
 from typing import Annotated
 
 import numpy as np
 from pydantic import Field, model_validator
 
 from calculators.base import Calculator, Output
-from calculators.batch import PRICE_SLOTS, RigBatch
+from calculators.batch import PRICE_SLOTS, RigBatch, per_batch
 from calculators.builtin.etendue import field_solid_angle_deg2
 from calculators.builtin.light_grasp import batch_clear_area_mm2
 from calculators.errors import CalculationError
@@ -59,15 +58,30 @@ class CostParams(Strict):
         return self
 
 
-def _priced_slots(batch: RigBatch) -> Iterator[tuple[str, np.ndarray, np.ndarray, np.ndarray]]:
-    """(slot, price, currency, priced mask) for every price column pair with at least one price."""
+def _priced_slots(batch: RigBatch) -> list[tuple[str, np.ndarray, np.ndarray, np.ndarray]]:
+    """(slot, price, currency, priced mask) for every price column pair with at least one price.
+
+    Worked out once per batch: the total, the currency and the units each need it.
+    """
+    store = getattr(batch, "derived", None)
+    if store is not None and _PRICED_KEY in store:
+        return store[_PRICED_KEY]
+    found = []
     for slot in PRICE_SLOTS:
         price = batch[f"{slot}_price"]
         priced = ~np.isnan(price)
         if priced.any():
-            yield slot, price, batch[f"{slot}_currency"], priced
+            priced.flags.writeable = False  # shared by the callers: none may change it
+            found.append((slot, price, batch[f"{slot}_currency"], priced))
+    if store is not None:
+        store[_PRICED_KEY] = found
+    return found
 
 
+_PRICED_KEY = f"{__name__}.priced_slots"
+
+
+@per_batch
 def _first_currency(batch: RigBatch) -> str | None:
     """The currency of the first priced component found, or None if nothing is priced."""
     for _, _, currency, priced in _priced_slots(batch):
@@ -144,7 +158,7 @@ class Cost(Calculator):
     >>> from calculators.schemas import Rig
     >>> rig = Rig(name="200 mm", telescope={"aperture_mm": 200, "focal_length_mm": 1000,
     ...           "obstruction_mm": 60, "price": {"amount": 1000, "currency": "EUR"}},
-    ...           camera={"pixel_size_um": 3.76, "width_px": 6248, "height_px": 4176,
+    ...           camera={"pixel_size_um": 3.8, "width_px": 6000, "height_px": 4000,
     ...           "price": {"amount": 800, "currency": "EUR"}})
     >>> batch = RigBatch.from_rigs([rig])
     >>> out = Cost().compute(batch, CostParams())

@@ -157,8 +157,14 @@ def instrument(app, watches: Stopwatches) -> None:
     # By module path: `plugins.compare` the attribute is the function that `plugins` re-exports.
     comparisons = importlib.import_module("api.comparisons.routes")
     compare_module = importlib.import_module("plugins.compare")
+    lane = importlib.import_module("api.comparisons.fast_lane")
+    from api.schemas import ComparisonRequest
+
     link, attribute = _router_link(app)
     watches.wrap(link, attribute, "router", is_async=True)
+    watches.wrap(lane, "_answer", "lane", is_async=True)
+    watches.wrap(ComparisonRequest, "model_validate", "body validation")
+    watches.wrap(comparisons, "create_comparison", "route function", is_async=True)
     watches.wrap(fastapi_routing, "solve_dependencies", "dependencies", is_async=True)
     watches.wrap(fastapi_deps, "request_body_to_args", "body validation", is_async=True)
     watches.wrap(fastapi_routing, "run_endpoint_function", "route function", is_async=True)
@@ -169,6 +175,8 @@ def instrument(app, watches: Stopwatches) -> None:
     watches.wrap(RigBatch, "from_rigs", "batch")
     watches.wrap(compare_module, "run", "calculators")
     watches.wrap(compare_module, "to_json_values", "arrays to JSON values")
+    if hasattr(compare_module, "explain"):
+        watches.wrap(compare_module, "explain", "null reasons")
     shim = SimpleNamespace(model_validate=Comparison.model_validate)
     watches.wrap(shim, "model_validate", "result validation")
     original_comparison = compare_module.Comparison
@@ -177,16 +185,22 @@ def instrument(app, watches: Stopwatches) -> None:
     watches.wrap(Comparison, "model_dump_json", "serialisation")
 
 
-#: (stage, parent) in the order printed; "other" rows are computed.
+#: (stage, parents) in the order printed: the first parent present is the stage's; "other" rows are
+#: computed. An anonymous JSON comparison takes the lane (api.comparisons.fast_lane), not the router.
 TREE = [
-    ("middleware", None), ("router", None),
-    ("dependencies", "router"), ("body validation", "dependencies"),
-    ("route function", "router"),
-    ("request checks", "route function"), ("rigs from the body", "route function"), ("compare()", "route function"),
-    ("params", "compare()"), ("batch", "compare()"), ("calculators", "compare()"),
-    ("arrays to JSON values", "compare()"), ("result validation", "compare()"),
-    ("serialisation", "route function"),
+    ("middleware", ()), ("lane", ()), ("router", ()),
+    ("dependencies", ("router",)), ("body validation", ("lane", "dependencies")),
+    ("route function", ("lane", "router")),
+    ("request checks", ("route function",)), ("rigs from the body", ("route function",)),
+    ("compare()", ("route function",)),
+    ("params", ("compare()",)), ("batch", ("compare()",)), ("calculators", ("compare()",)),
+    ("arrays to JSON values", ("compare()",)), ("null reasons", ("compare()",)),
+    ("result validation", ("compare()",)),
+    ("serialisation", ("route function",)),
 ]
+
+
+TREE_PARENTS = dict(TREE)
 
 
 async def _measure(app, method: str, path: str, body: bytes, count: int) -> tuple[float, float, float]:
@@ -231,7 +245,7 @@ async def _run(body: bytes, count: int, log_path: Path, settings) -> dict[str, A
                         await call(app, method, path, payload)
                     whole = CLOCK() - start
                     stages = dict(watches.seconds)
-                    stages["middleware"] = whole - stages.get("router", 0.0)
+                    stages["middleware"] = whole - stages.get("router", 0.0) - stages.get("lane", 0.0)
                     figures[f"{route}_timed"] = whole / count
                     figures[f"{route}_stages"] = {k: v / count for k, v in stages.items()}
             finally:
@@ -262,6 +276,7 @@ def report(figures: dict[str, Any], count: int) -> None:
           f"{(comparison_best - health_best) * us:.0f} us); /healthz / comparison {health / comparison:.1%} "
           f"(best chunks {health_best / comparison_best:.1%})")
     labels = {"router": "routing, body read and JSON decoding, answer",
+              "lane": "body read and JSON decoding",
               "dependencies": "dependency solving (caller, key)",
               "route function": "other (the response object)",
               "compare()": "other (checks, the result tree)"}
@@ -273,12 +288,13 @@ def report(figures: dict[str, Any], count: int) -> None:
         def row(level: int, label: str, seconds: float) -> None:
             print(f"    {'  ' * level}{label:<{52 - 2 * level}} {seconds * us:7.1f} us")
 
-        for stage, parent in TREE:
-            if stage not in stages:
+        parent_of = {stage: next((p for p in parents if p in stages), None) for stage, parents in TREE}
+        for stage, _ in TREE:
+            if stage not in stages or (parent_of[stage] is None and TREE_PARENTS[stage]):
                 continue
-            depth[stage] = depth[parent] + 1
+            depth[stage] = depth[parent_of[stage]] + 1
             row(depth[stage] - 1, stage, stages[stage])
-            children = [s for s, p in TREE if p == stage and s in stages]
+            children = [s for s, _ in TREE if parent_of[s] == stage and s in stages]
             if children:
                 row(depth[stage], labels.get(stage, "other"),
                     stages[stage] - sum(stages[c] for c in children))

@@ -46,6 +46,8 @@ ROUTES = [
     Route("a public item's history", "GET", "/v1/telescopes/{scope}/history", None, (200, 200, 200, 200, 200)),
     Route("a members-only item's history", "GET", "/v1/telescopes/{hidden}/history", None, (404, 404, 200, 200, 200)),
     Route("the club's equipment", "GET", "/v1/clubs/{club}/equipment", None, (200, 200, 200, 200, 200)),
+    Route("import for the club", "POST", "/v1/imports?kind=mounts&owner={club}", "import", (401, 403, 403, 201, 201)),
+    Route("export the club's items", "GET", "/v1/exports?owner={club}", None, (401, 200, 200, 200, 200)),
 ]
 
 
@@ -64,7 +66,8 @@ def test_each_route_answers_each_caller_as_its_role_allows(client, make_account,
     path = route.path.format(club=CLUB, scope=scope, hidden=hidden, private=private, loan=loan["id"],
                              request=request["id"])
     body = {"lend": loan_body(scope, start="2027-02-01", due="2027-02-03"),
-            "ask": {**ASK, "item": {"kind": "telescopes", "id": scope}}}.get(route.body) if isinstance(route.body, str) \
+            "ask": {**ASK, "item": {"kind": "telescopes", "id": scope}},
+            "import": [{"name": "imported mount", "capacity_kg": 12}]}.get(route.body) if isinstance(route.body, str) \
         else route.body
     answer = client.request(route.method, path, json=body, headers=people.headers(who))
     expected = route.expected[WHO.index(who)]

@@ -189,3 +189,18 @@ def test_an_output_both_constrained_and_optimised_is_one_row_with_its_bound():
     assert [c["key"] for c in sheet["constraints"]] == ["sampling.pixel_scale_arcsec"]
     row = next(o for o in sheet["objectives"] if o["key"] == "payload.capacity_fraction")
     assert row["bounds"] == "at most 0.8"
+
+
+def test_what_is_owned_is_not_in_the_price_to_buy():
+    # Parts that say they are owned (as the imaging-train work adds) count in the whole price only.
+    from types import SimpleNamespace
+
+    from calculators.evaluation_schemas import EvaluationRow, Ids, Indices
+    from calculators.schemas import Price
+
+    def part(amount, owned=False):
+        return SimpleNamespace(price=Price(amount=amount, currency="EUR"), owned=owned, name=f"part {amount}")
+
+    components = ([part(600, owned=True)], [part(1400)], [None], [[part(120), part(80, owned=True)]])
+    row = EvaluationRow(indices=Indices(), ids=Ids(), values={}, score=0.0)
+    assert report._purchase(components, row) == ("1,520.00 EUR", "2,200.00 EUR")
