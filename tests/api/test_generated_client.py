@@ -22,7 +22,8 @@ def generated(tmp_path_factory):
     """The client generated from the committed document, importable as ``rigbench_generated``."""
     folder = tmp_path_factory.mktemp("client")
     config = folder / "config.yaml"
-    config.write_text("post_hooks: []\n", encoding="utf-8")  # no formatter run: nothing outside Python
+    # No formatter run (nothing outside Python); a CSV body is sent as the bytes of the file.
+    config.write_text("post_hooks: []\ncontent_type_overrides:\n  text/csv: application/octet-stream\n", encoding="utf-8")
     generator = Path(sys.executable).parent / "openapi-python-client"
     done = subprocess.run(
         [str(generator), "generate", "--path", str(DOCUMENT), "--meta", "none", "--config", str(config),

@@ -8,11 +8,10 @@ import pint
 import pytest
 from hypothesis import given
 from hypothesis import strategies as st
-from rig_strategies import rig_lists
-
 from calculators.batch import RigBatch
 from calculators.rig_cautions import LIFT_GUIDELINE_KG, rig_cautions
 from calculators.schemas import Rig
+from plugins.strategies import rig_lists
 
 CAMERA = {"pixel_size_um": 3.8, "width_px": 6000, "height_px": 4000, "mass_kg": 1.0}
 
