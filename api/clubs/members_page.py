@@ -125,10 +125,6 @@ async def sign_in(name: str, request: Request) -> Response:
     if not _csrf_ok(request, form.get("csrf")):
         return await run_in_threadpool(_refused, request, name, ApiProblem(403, "the form has expired; please try again"))
     limits, address = rate_limits(request), client_address(request)
-    try:
-        await limits.refuse_if_failing(address)
-    except ApiProblem as problem:
-        return await run_in_threadpool(_refused, request, name, problem)
     key = str(form.get("key") or "").strip()
 
     def check() -> Response | None:
@@ -150,7 +146,11 @@ async def sign_in(name: str, request: Request) -> Response:
     except ApiProblem as problem:
         return await run_in_threadpool(_refused, request, name, problem)
     if done is None:
-        await limits.count_failed_auth(address)
+        # Failed keys are counted per address (429 past the limit); a valid key is never refused.
+        try:
+            await limits.count_failed_auth(address)
+        except ApiProblem as problem:
+            return await run_in_threadpool(_refused, request, name, problem)
         return await run_in_threadpool(_refused, request, name, ApiProblem(401, "that key is unknown or revoked"))
     return done
 
