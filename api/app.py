@@ -34,6 +34,7 @@ from api.evaluations import routes as evaluations
 from api.evaluations import saved_routes as saved_evaluations
 from api.http import health, problems, request_log
 from api.http.body_limit import BodySizeLimit
+from api.http.edge import Edge
 from api.http.health import _version
 from api.http.ratelimit import RateLimits
 from api.settings import Settings
@@ -105,7 +106,7 @@ def create_app(settings: Settings | None = None) -> FastAPI:
         app.include_router(module.router)
     # Innermost: anonymous JSON comparisons skip FastAPI's request machinery (api.comparisons.fast_lane).
     app.add_middleware(ComparisonFastLane)
-    app.add_middleware(BodySizeLimit, max_bytes=settings.max_body_bytes)
+    app.add_middleware(BodySizeLimit, max_bytes=settings.max_body_bytes, timeout_s=settings.body_timeout_s)
     # The members' page sign-in (api.clubs.members_page): a signed, expiring, HTTP-only, same-site cookie.
     app.add_middleware(
         SessionMiddleware, secret_key=settings.session_secret or secrets.token_urlsafe(32),
@@ -116,10 +117,13 @@ def create_app(settings: Settings | None = None) -> FastAPI:
         app.add_middleware(
             CORSMiddleware,
             allow_origins=settings.cors_origins,
-            allow_methods=["GET", "POST", "PUT", "PATCH", "DELETE"],
-            allow_headers=["Authorization", "Content-Type", "If-Match", "Accept"],
+            allow_methods=["GET", "HEAD", "POST", "PUT", "PATCH", "DELETE"],
+            allow_headers=["Authorization", "Content-Type", "If-Match", "If-None-Match", "Accept"],
             expose_headers=["ETag", "Location"],
         )
+    # Client address, link origin and HEAD, before anything reads them.
+    app.add_middleware(Edge, trusted_proxies=settings.trusted_proxies, public_url=settings.public_url,
+                       allowed_hosts=settings.allowed_hosts)
     # Outermost, so even a refused oversized body gets a request id and a log line.
     app.add_middleware(request_log.RequestLog, enabled=settings.request_log)
     if settings.request_log:

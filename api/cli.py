@@ -50,8 +50,14 @@ def run_serve(args: argparse.Namespace, settings: Settings) -> int:
               "RIGBENCH_RATE_LIMIT_STORAGE=redis://host:6379/0.")
     sys.stdout.flush()
     # rigbench writes its own JSON request log (api.http.request_log); uvicorn's would repeat each line.
+    import os
+
+    from api.http.server_timeouts import ENVIRONMENT, HeaderTimeoutProtocol
+
+    os.environ[ENVIRONMENT] = str(settings.header_timeout_s)  # read by each worker's protocol
+    # proxy_headers off: X-Forwarded-For is believed only from RIGBENCH_TRUSTED_PROXIES (api.http.edge).
     options = {"host": args.host, "port": args.port, "log_level": args.log_level,
-               "access_log": not settings.request_log}
+               "access_log": not settings.request_log, "proxy_headers": False, "http": HeaderTimeoutProtocol}
     if workers == 1:
         from api.app import create_app
 

@@ -64,12 +64,10 @@ async def optional_caller(
             raise ApiProblem(401, "send the key as 'Authorization: Bearer <key>'",
                              headers={"WWW-Authenticate": 'Bearer error="invalid_request"'})
         return None
-    limits, address = rate_limits(request), client_address(request)
-    # Checked before the lookup: an address that used up its failed attempts tries no more keys.
-    await limits.refuse_if_failing(address)
     principal = await run_in_threadpool(_authenticate, request.app.state.engine, credentials.credentials)
     if principal is None:
-        await limits.count_failed_auth(address)
+        # Counted, never held against a valid key: many callers may share one address.
+        await rate_limits(request).count_failed_auth(client_address(request))
         raise ApiProblem(
             401, "the API key is unknown or revoked", headers={"WWW-Authenticate": 'Bearer error="invalid_token"'}
         )

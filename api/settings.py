@@ -73,6 +73,66 @@ class Settings(BaseSettings):
         description="Where rate-limit counters live: memory:// (this process) or redis://host:port/db "
         "(shared by every server process; needs the redis extra).",
     )
+    rate_limit_compute_per_key: str = Field(
+        default="120/minute",
+        description="Most computing requests (comparisons, evaluations, uncached club pages and pictures) "
+        "one API key may make, e.g. 120/minute; empty: no limit.",
+    )
+    rate_limit_compute_anonymous: str = Field(
+        default="30/minute",
+        description="Most computing requests without a key from one client address (stricter than with "
+        "a key); empty: no limit.",
+    )
+    request_deadline_s: float = Field(
+        default=10.0, ge=0, le=3600,
+        description="Longest wall-clock time a heavy request may compute, in seconds (503 past it); 0: none.",
+    )
+    request_cpu_s: float = Field(
+        default=2.0, ge=0, le=3600,
+        description="Most CPU-seconds one heavy request without a key may use (422 past it); 0: no limit.",
+    )
+    request_cpu_s_with_key: float = Field(
+        default=2.0, ge=0, le=3600,
+        description="Most CPU-seconds one heavy request with a valid key may use (raise it for trusted "
+        "callers); 0: no limit.",
+    )
+    max_heavy_requests: int = Field(
+        default=2, ge=1, le=1024,
+        description="Heavy requests (evaluations, large comparisons, uncached club pages) one process "
+        "computes at once; others wait for a slot.",
+    )
+    heavy_queue_s: float = Field(
+        default=5.0, ge=0, le=600,
+        description="Longest a heavy request waits for a slot, in seconds, before a 503 with Retry-After.",
+    )
+    club_page_max_rigs: int = Field(
+        default=100, ge=1, le=10_000,
+        description="Most rigs a club page, its pictures and its comparison show (the oldest first).",
+    )
+    trusted_proxies: Annotated[list[str], NoDecode] = Field(
+        default_factory=list,
+        description="Addresses or networks (CIDR) of reverse proxies whose X-Forwarded-For is believed, "
+        "comma-separated; empty: none, the peer's address is the client's.",
+    )
+    public_url: str = Field(
+        default="",
+        description="The service's public base URL (e.g. https://rigbench.example.org); absolute links "
+        "(Location, page links, the embed snippet) are built from it. Empty: from an allowed Host, else "
+        "from the server's own address.",
+    )
+    allowed_hosts: Annotated[list[str], NoDecode] = Field(
+        default_factory=list,
+        description="Host header values links may be built from when public_url is empty (comma-separated, "
+        "with or without port); any other Host is replaced by the server's own address.",
+    )
+    header_timeout_s: float = Field(
+        default=10.0, gt=0, le=600,
+        description="Longest a client may take to send a request's headers (rigbench serve), in seconds.",
+    )
+    body_timeout_s: float = Field(
+        default=30.0, gt=0, le=3600,
+        description="Longest a client may take to send a request's body, in seconds (408 past it).",
+    )
     workers: int = Field(
         default=0, ge=0, le=512,
         description="Server processes `rigbench serve` starts (`--workers` overrides it); 0: one per "
@@ -94,9 +154,36 @@ class Settings(BaseSettings):
         default=True, description="Write one JSON line per request (id, method, path, status, time) to stderr."
     )
 
-    _split = field_validator("disabled_plugins", "cors_origins", mode="before")(_split_list)
+    _split = field_validator(
+        "disabled_plugins", "cors_origins", "trusted_proxies", "allowed_hosts", mode="before"
+    )(_split_list)
 
-    @field_validator("rate_limit_writes_per_key", "rate_limit_writes_per_address", "rate_limit_failed_auth")
+    @field_validator("trusted_proxies")
+    @classmethod
+    def _networks(cls, value: list[str]) -> list[str]:
+        import ipaddress
+
+        for item in value:
+            try:
+                ipaddress.ip_network(item, strict=False)
+            except ValueError:
+                raise ValueError(f"{item!r} is not an IP address or network such as 10.0.0.0/8") from None
+        return value
+
+    @field_validator("public_url")
+    @classmethod
+    def _public_url(cls, value: str) -> str:
+        from urllib.parse import urlsplit
+
+        value = value.strip().rstrip("/")
+        if value:
+            parts = urlsplit(value)
+            if parts.scheme not in ("http", "https") or not parts.netloc or parts.query or parts.fragment:
+                raise ValueError(f"{value!r} is not a base URL such as https://rigbench.example.org")
+        return value
+
+    @field_validator("rate_limit_writes_per_key", "rate_limit_writes_per_address", "rate_limit_failed_auth",
+                     "rate_limit_compute_per_key", "rate_limit_compute_anonymous")
     @classmethod
     def _a_rate(cls, value: str) -> str:
         from limits import parse

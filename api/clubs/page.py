@@ -20,6 +20,7 @@ from sqlmodel import Session
 from starlette.responses import FileResponse, HTMLResponse, Response
 
 from api.clubs import queries as clubs
+from api.clubs.cache import serve_cached
 from api.clubs import view as club_view
 from api.http.negotiation import quality
 from api.http.problems import ApiProblem
@@ -99,13 +100,14 @@ def _gather(request: Request, name: str, baseline: str | None, target: str):
     state = request.app.state
     with Session(state.engine) as session:
         club = clubs.find_club(session, name)
+        # The page shows at most RIGBENCH_CLUB_PAGE_MAX_RIGS rigs, the oldest first (it says so).
+        shown = min(state.settings.club_page_max_rigs, state.settings.max_rigs_per_comparison)
         result = clubs.comparison(
             session, state.registry, club, baseline_id=_baseline(baseline), target=target,
-            max_rigs=state.settings.max_rigs_per_comparison, query=dict(request.query_params),
-            known=PAGE_QUERY,
+            max_rigs=shown, query=dict(request.query_params), known=PAGE_QUERY,
         )
         equipment = clubs.equipment(session, club, state.settings.max_page_size)
-        rigs, _total = clubs.rigs(session, club, state.settings.max_rigs_per_comparison, 0)
+        rigs, _total = clubs.rigs(session, club, shown, 0)
     # A rig whose stored spec no longer validates is left off the page (the JSON lists mark it).
     return club, result, equipment, [rig for rig in rigs if not rig.invalid]
 
@@ -119,10 +121,14 @@ def _problem_page(request: Request, problem: ApiProblem) -> HTMLResponse:
 
 
 @router.get("/clubs/{name}", response_class=HTMLResponse, name="club_page")
-def club_page(
+async def club_page(
     name: str, request: Request, baseline: BaselineText = None, target: TargetText = DEFAULT_TARGET,
     embed: EmbedText = None,
-) -> HTMLResponse:
+) -> Response:
+    return await serve_cached(request, name, lambda: _club_page(name, request, baseline, target, embed))
+
+
+def _club_page(name: str, request: Request, baseline: str | None, target: str, embed: str | None) -> HTMLResponse:
     try:
         club, result, equipment, rigs = _gather(request, name[:100], baseline, target)
     except ApiProblem as problem:
@@ -156,17 +162,19 @@ def _svg(request: Request, name: str, baseline: str | None, target: str, draw) -
 
 
 @router.get("/clubs/{name}/fields.svg", name="club_fields_picture")
-def club_fields_picture(
+async def club_fields_picture(
     name: str, request: Request, baseline: BaselineText = None, target: TargetText = DEFAULT_TARGET,
 ) -> Response:
-    return _svg(request, name, baseline, target, club_view.fields_picture)
+    return await serve_cached(
+        request, name, lambda: _svg(request, name, baseline, target, club_view.fields_picture))
 
 
 @router.get("/clubs/{name}/bars.svg", name="club_bars_picture")
-def club_bars_picture(
+async def club_bars_picture(
     name: str, request: Request, baseline: BaselineText = None, target: TargetText = DEFAULT_TARGET,
 ) -> Response:
-    return _svg(request, name, baseline, target, club_view.bars_picture)
+    return await serve_cached(
+        request, name, lambda: _svg(request, name, baseline, target, club_view.bars_picture))
 
 
 @router.get("/static/{asset}", name="club_asset")

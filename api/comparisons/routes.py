@@ -12,6 +12,8 @@ from api.comparisons.csv_table import comparison_csv
 from api.comparisons.resolve import baseline_after_skips, check_request, inline_rigs, needs_database, resolve_rigs
 from api.deps import Caller
 from api.http import problems
+from api.http.budget import budget_for, run_heavy
+from api.http.ratelimit import client_address, rate_limits
 from api.http.negotiation import prefers_csv
 from api.schemas import ComparisonRequest, Ref
 from api.sites.conditions import read_site
@@ -52,7 +54,10 @@ async def create_comparison(body: ComparisonRequest, request: Request, caller: C
     args = (rigs, names, baseline_after_skips(body.baseline, skipped), body.params)
     kwargs = {"registry": registry, "ids": ids, "site": site, "site_id": site_id}
     # A third-party calculator may wait out its time budget in a worker thread: never on the loop.
-    if len(rigs) > THREADPOOL_RIGS or registry.runs_third_party(names):
+    if len(rigs) > THREADPOOL_RIGS:  # a heavy one: rate-limited, and under a heavy-request slot
+        await rate_limits(request).count_compute(caller.key_id if caller else None, client_address(request))
+        result = await run_heavy(request, budget_for(request, caller is not None), compare, *args, **kwargs)
+    elif registry.runs_third_party(names):
         result = await run_in_threadpool(compare, *args, **kwargs)
     else:
         result = compare(*args, **kwargs)

@@ -14,7 +14,7 @@ from api.deps import Caller, ItemId, SessionDep, SettingsDep, Writer
 from api.equipment.readable import json_response
 from api.equipment.rules import Resource
 from api.http import problems
-from api.http.etags import IfMatch, etag, require_match
+from api.http.etags import IfMatch, etag, none_match, not_modified, require_match
 from api.http.problems import ApiProblem
 from api.schemas import HANDLE_PATTERN, MAX_ID
 from api.storage.models import Visibility
@@ -112,11 +112,17 @@ def crud_router(resource: Resource) -> APIRouter:
 
     @router.get(
         "/{item_id}", response_model=Public, name=f"get_{label}", operation_id=f"get_{label}",
-        summary=f"Read one {label}", responses={**with_etag, **problems.responses(401, 404, 422)},
+        summary=f"Read one {label}", description="Send If-None-Match with the ETag you hold to get a "
+        "304 without a body when the item has not changed.",
+        responses={**with_etag, 304: {"description": "Not Modified: your copy (If-None-Match) is current."},
+                   **problems.responses(401, 404, 422)},
     )
-    def get(item_id: ItemId, session: SessionDep, caller: Caller):
+    def get(item_id: ItemId, session: SessionDep, caller: Caller, request: Request):
         row, owner = fetch_readable(session, table, item_id, caller, label)
-        return json_response(present_one(session, row, owner), headers={"ETag": etag(row.version)})
+        tag = etag(row.version)
+        if none_match(request.headers.get("if-none-match"), tag) and resource.parts_unchanged(session, row):
+            return not_modified(tag)  # the caller's copy is current: nothing to build or send
+        return json_response(present_one(session, row, owner), headers={"ETag": tag})
 
     @router.put(
         "/{item_id}", response_model=Public, operation_id=f"replace_{label}",

@@ -72,6 +72,9 @@ class Resource:
     present: Callable[[Session, Sequence[tuple[StoredItem, str]]], list[BaseModel]]
     before_change: Callable[[Session, Principal, StoredItem, dict[str, Any]], None] = lambda *a: None
     before_delete: Callable[[Session, Principal, StoredItem], None] = lambda *a: None
+    # Whether what the item shows besides its own row (a rig's stored equipment) is unchanged
+    # since the item's own last change: only then may If-None-Match on its version give a 304.
+    parts_unchanged: Callable[[Session, StoredItem], bool] = lambda *a: True
     tags: list[str] = field(default_factory=list)
 
 
@@ -311,8 +314,21 @@ def _rig_present(session: Session, rows: Sequence[tuple[StoredItem, str]]) -> li
     ]
 
 
+def _rig_parts_unchanged(session: Session, rig: StoredItem) -> bool:
+    """No equipment the rig references changed after the rig itself did."""
+    since = aware(rig.updated_at)
+    for slot, table in SLOT_TABLES.items():
+        value = rig.spec.get(slot)
+        if _is_ref(value):
+            part = fetch_by_ids(session, table, [value["id"]]).get(value["id"])
+            if part is None or aware(part.updated_at) > since:
+                return False
+    return True
+
+
 RIGS = Resource(
     path="rigs", label="rig", table=RigRow, create=schemas.RigCreate, update=schemas.RigUpdate,
     public=schemas.RigPublic, list=schemas.RigList, prepare=_rig_prepare, present=_rig_present,
+    parts_unchanged=_rig_parts_unchanged,
     tags=["rigs"],
 )

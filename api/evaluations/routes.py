@@ -25,6 +25,8 @@ from api.evaluations.request import (
 from api.schemas import Ref
 from api.sites.conditions import read_site
 from api.http import problems
+from api.http.budget import budget_for, run_heavy
+from api.http.ratelimit import client_address, rate_limits
 from api.http.negotiation import prefers_csv
 from calculators.evaluation_schemas import EvaluationResult
 from calculators.sweep import EvaluationError, evaluate_spec
@@ -55,6 +57,7 @@ async def create_evaluation(body: EvaluationRequest, request: Request, caller: C
     state = request.app.state
     maximum = state.settings.max_combinations
     check_size(body, maximum)
+    await rate_limits(request).count_compute(caller.key_id if caller else None, client_address(request))
     if needs_database(body):
         components, ids = await run_in_threadpool(resolve_components, state.engine, caller, body)
     else:
@@ -64,8 +67,9 @@ async def create_evaluation(body: EvaluationRequest, request: Request, caller: C
         site, site_id = await run_in_threadpool(read_site, state.engine, caller, site)
     body, used = with_site(body, site, site_id, state.registry.calculators)
     try:
-        result = await run_in_threadpool(
-            evaluate_spec, *components, body,
+        budget = budget_for(request, caller is not None)
+        result = await run_heavy(
+            request, budget, evaluate_spec, *components, body, check=budget.check,
             calculators=state.registry.calculators, ids=ids, max_combinations=maximum,
             max_front_rows=MAX_FRONT_ROWS,
         )

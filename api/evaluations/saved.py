@@ -8,8 +8,9 @@ deleted, or no longer readable by the caller), and a re-run computes the answer 
 equipment (the copy standing in for what is gone) and says what changed.
 
 Privacy: a saved evaluation is read like other stored items (its owner, or anyone when public);
-one that is private to someone else is a 404, never a 403. A public one shows the names, specs
-and prices of the equipment it was computed from, as they were at saving.
+one that is private to someone else is a 404, never a 403. A public one may use only public stored
+equipment (as a public rig), checked inside the writing transaction with the copies compared to
+what is stored; it shows the names, specs and prices of that equipment as they were at saving.
 """
 
 from __future__ import annotations
@@ -34,7 +35,8 @@ from api.evaluations.request import (
     sizes,
     with_site,
 )
-from api.http.problems import from_validation_error
+from api.equipment.rules import SlotRequest, resolve_slots
+from api.http.problems import ApiProblem, FieldError, from_validation_error
 from api.schemas import Ref, Visible, refuse_nul
 from api.sites.conditions import read_site
 from api.storage import store
@@ -170,8 +172,32 @@ def snapshot(body: EvaluationRequest, components, params: dict[str, Any]) -> dic
     return {"request": request, "components": copies, "stored": stored, "params": params}
 
 
+def check_copies(session: Session, principal: Principal, body: SavedEvaluationCreate, components) -> None:
+    """Inside the writing transaction: every stored entry is still readable, in service and as it
+    was copied (locked ``FOR SHARE`` on PostgreSQL; SQLite holds its write lock), and a public
+    saved evaluation uses only public equipment, as a public rig does. 422 naming the field for
+    what the caller can fix; 409 when the equipment changed while the answer was computed."""
+    public = body.visibility == Visibility.public
+    refs = [(kind, i, value) for kind in AXES for i, value in enumerate(getattr(body, LISTS[kind]))
+            if isinstance(value, Ref)]
+    if not refs:
+        return
+    specs = resolve_slots(session, principal, [
+        SlotRequest({kind: ref}, loc=(LISTS[kind], i), public_only=public, slot_in_path=False)
+        for kind, i, ref in refs
+    ], lock=True)
+    for (kind, i, ref), spec in zip(refs, specs):
+        copy = components[AXES.index(kind)][i]
+        if MODELS[kind].model_validate(spec[kind]) != copy:
+            raise ApiProblem(409, f"{LISTS[kind]}.{i}: {kind} {ref.id} changed while the evaluation was "
+                             "computed; send the request again", errors=[
+                                 FieldError(field=f"{LISTS[kind]}.{i}.id", message="changed while computing")])
+
+
 def save(session: Session, principal: Principal, body: SavedEvaluationCreate, components, params,
          result: EvaluationResult) -> SavedEvaluationRow:
+    store.begin_write(session)
+    check_copies(session, principal, body, components)
     return store.insert(session, SavedEvaluationRow, principal, {
         "name": body.name, "visibility": body.visibility.value,
         "spec": snapshot(body, components, params), "result": result.model_dump(mode="json"),

@@ -39,8 +39,9 @@ def _save(request: Request, caller, body: saved.SavedEvaluationCreate) -> saved.
     description="The body of `POST /v1/evaluations` plus `name` and `visibility`. The answer is "
     "computed, kept with a copy of every component it was computed from, and returned with the "
     "saved evaluation's `id` and the address of its report page (`report_url`). A public saved "
-    "evaluation shows the names, specs and prices of its equipment as they were at saving.",
-    responses=problems.responses(400, 401, 403, 413, 415, 422),
+    "evaluation may use only public stored equipment (as a public rig), and shows its names, specs "
+    "and prices as they were at saving; 409 when stored equipment changed while computing.",
+    responses=problems.responses(400, 401, 403, 409, 413, 415, 422),
 )
 async def save_evaluation(body: saved.SavedEvaluationCreate, request: Request, caller: Writer) -> Response:
     public = await run_in_threadpool(_save, request, caller, body)

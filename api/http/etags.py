@@ -10,6 +10,7 @@ import re
 from typing import Annotated
 
 from fastapi import Header
+from starlette.responses import Response
 
 from api.http.problems import ApiProblem
 
@@ -48,3 +49,22 @@ IfMatch = Annotated[
         "still at that version (412 otherwise).",
     ),
 ]
+
+
+def none_match(if_none_match: str | None, tag: str) -> bool:
+    """True when an If-None-Match header value names ``tag`` (weakly, as RFC 9110 section 13.1.2
+    compares it) or is ``*``: the client's copy is current, answer 304."""
+    if not if_none_match:
+        return False
+    if if_none_match.strip() == "*":
+        return True
+    wanted = _TAG.fullmatch(tag)
+    for part in if_none_match.split(","):
+        found = _TAG.fullmatch(part)
+        if found and wanted and found.group(2) == wanted.group(2):
+            return True
+    return False
+
+
+def not_modified(tag: str, headers: dict[str, str] | None = None) -> Response:
+    return Response(status_code=304, headers={"ETag": tag, **(headers or {})})

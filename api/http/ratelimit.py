@@ -1,12 +1,14 @@
-"""Rate limits on writes (per key and per client address) and on failed authentication (per address).
+"""Rate limits on writes (per key and per client address), on computing requests (per key, and per
+address for callers without a key, which is stricter) and on failed authentication (per address).
 
 Counters live where ``RIGBENCH_RATE_LIMIT_STORAGE`` says, through the ``limits`` library: ``memory://``
 keeps them in this process (right for one server process), ``redis://host:port`` in a Redis that every
 server process shares (needed when several processes serve one database, or each process would allow
 the whole rate). A refused request is a 429 problem with ``Retry-After`` in seconds.
 
-Failed authentication is counted per client address and checked *before* a key is looked up, so once
-an address has used up its allowance it cannot try more keys until the window moves on. If the shared
+Failed authentication is counted per client address: once an address has used up its allowance, its
+next unknown keys get a 429 instead of a 401, but a valid key is always accepted (many people may
+share one address behind a NAT; guessing a key is hopeless anyway, the limit only slows scanners). If the shared
 store cannot be reached, requests are let through (and a warning is logged): the limits protect the
 service, they must not take it down.
 """
@@ -53,6 +55,8 @@ class RateLimits:
     writes_per_address: RateLimitItem | None
     failed_auth_per_address: RateLimitItem | None
     storage_uri: str
+    compute_per_key: RateLimitItem | None = None
+    compute_anonymous: RateLimitItem | None = None
     _limiter: SlidingWindowCounterRateLimiter | None = None
 
     @classmethod
@@ -62,6 +66,8 @@ class RateLimits:
             writes_per_address=parse_limit(settings.rate_limit_writes_per_address),
             failed_auth_per_address=parse_limit(settings.rate_limit_failed_auth),
             storage_uri=settings.rate_limit_storage,
+            compute_per_key=parse_limit(settings.rate_limit_compute_per_key),
+            compute_anonymous=parse_limit(settings.rate_limit_compute_anonymous),
         )
 
     def limiter(self) -> SlidingWindowCounterRateLimiter:
@@ -99,14 +105,21 @@ class RateLimits:
             return None
         return max(1.0, stats.reset_time - time.time())
 
-    async def refuse_if_failing(self, address: str) -> None:
-        """429 when this address has used up its failed-authentication allowance."""
-        wait = await self._used_up(self.failed_auth_per_address, "failed-auth", address)
+    async def count_failed_auth(self, address: str) -> None:
+        """Count one unknown or revoked key from this address; 429 once its allowance is used up."""
+        wait = await self._hit(self.failed_auth_per_address, "failed-auth", address)
         if wait is not None:
             raise too_many(wait, "too many requests with an unknown or revoked key from this address")
 
-    async def count_failed_auth(self, address: str) -> None:
-        await self._hit(self.failed_auth_per_address, "failed-auth", address)
+    async def count_compute(self, key_id: int | None, address: str) -> None:
+        """Count one computing request: per key with a key, per address without (stricter)."""
+        if key_id is not None:
+            wait, which = await self._hit(self.compute_per_key, "compute-key", str(key_id)), "this key"
+        else:
+            wait, which = await self._hit(self.compute_anonymous, "compute-address", address), "this address"
+        if wait is not None:
+            raise too_many(wait, f"too many computing requests from {which}"
+                           + ("" if key_id is not None else " without a key"))
 
     async def count_write(self, key_id: int | None, address: str) -> None:
         """Count one write for the key and for the address; 429 when either is used up."""
@@ -134,7 +147,10 @@ def too_many(wait_s: float, reason: str) -> ApiProblem:
 
 
 def client_address(request: Request) -> str:
-    # Behind a proxy, uvicorn's --forwarded-allow-ips makes this the original client's address.
+    """The client's address as api.http.client_address worked it out (trusted proxies applied)."""
+    found = request.scope.get("state", {}).get("client_address")
+    if found:
+        return found
     return request.client.host if request.client else "unknown"
 
 

@@ -99,10 +99,12 @@ class RequestLog:
         status = 500
         encoded = request_id.encode()
 
+        started = False
+
         async def send_with_id(message: Message) -> None:
-            nonlocal status
+            nonlocal status, started
             if message["type"] == "http.response.start":
-                status = message["status"]
+                status, started = message["status"], True
                 message["headers"] = [*message.get("headers", ()), (HEADER, encoded)]
             await send(message)
 
@@ -110,9 +112,22 @@ class RequestLog:
             await self.app(scope, receive, send_with_id)
             # Kept on an exception: Starlette's outermost error middleware logs it after we return.
             current_request_id.reset(token)
+        except Exception:
+            if not started:
+                # The 500 answer, sent here so that it carries the request id too; Starlette's
+                # error middleware then sees a started answer, logs the exception and sends nothing.
+                body = json.dumps({
+                    "type": "about:blank", "title": "Internal Server Error", "status": 500,
+                    "detail": "an unexpected error occurred; it has been logged", "instance": scope["path"],
+                }).encode()
+                await send_with_id({"type": "http.response.start", "status": 500, "headers": [
+                    (b"content-type", b"application/problem+json"), (b"content-length", str(len(body)).encode())]})
+                await send({"type": "http.response.body", "body": body})
+            raise
         finally:
             if self.enabled and access_log.isEnabledFor(logging.INFO):
                 client = scope.get("client")
+                client = (state.get("client_address"),) if state.get("client_address") else client
                 # A record made here, not by access_log.info(), which would walk the stack to find
                 # the calling line: a cost on every request for a field the JSON line never shows.
                 fields = {

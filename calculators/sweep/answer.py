@@ -20,6 +20,7 @@ from calculators.evaluation_schemas import (
     Ids,
     Indices,
 )
+from calculators.pareto import FrontLimitReached
 from calculators.schemas import Camera, Modifier, Mount, Telescope
 from calculators.sweep.chunks import guarded, row_values
 from calculators.sweep.errors import EvaluationError, FrontTooLarge, TooManyCombinations
@@ -52,6 +53,7 @@ def evaluate(
     chunk_rows: int = DEFAULT_CHUNK_ROWS,
     progress: Progress | None = None,
     max_front_rows: int | None = None,
+    check: Callable[[], None] | None = None,
 ) -> EvaluationResult:
     """Sweep telescopes × cameras × modifiers × mounts; return counts, the front and the top rows.
 
@@ -60,7 +62,9 @@ def evaluate(
     ``progress(done, total)`` is called after each chunk computed; ``max_front_rows`` refuses
     (:class:`FrontTooLarge`) a front of more rows than an answer should hold, before they are
     built (combinations with equal objective values are all on the front, so ties can make it as
-    large as the product). Every bad input raises an
+    large as the product), as soon as the front is known to pass it; ``check()`` is called
+    between chunks and between blocks of the front's work (a request's deadline raises from it).
+    Every bad input raises an
     :class:`EvaluationError` (a :class:`RigbenchError` and ``ValueError``) whose ``loc`` names the
     field, before any heavy work; a calculator that refuses or fails on the components raises
     :class:`CalculatorFailed` (also a :class:`CalculationError`).
@@ -100,18 +104,15 @@ def evaluate(
         declared = {o.name: o.unit for o in plan.calculator.outputs}
         units.update({f"{name}.{out}": str(given.get(out, declared[out])) for out in plan.outputs})
 
-    feasible, front, top, base_score = run_passes(
-        batch, plans, bounds, directions, nullable, chunk_rows, limit, progress
-    )
-
-    if max_front_rows is not None and front.positions.size > max_front_rows:
-        raise FrontTooLarge(
-            f"objectives: {front.positions.size:,} combinations are on the Pareto front, more than "
-            f"the {max_front_rows:,} an answer may hold (combinations with equal objective values "
-            "are all on it); add an objective or a constraint that tells them apart, or shorten "
-            "a list of candidates",
-            loc=("objectives",),
+    try:
+        feasible, front, top, base_score = run_passes(
+            batch, plans, bounds, directions, nullable, chunk_rows, limit, progress,
+            max_front_rows=max_front_rows, check=check,
         )
+    except FrontLimitReached as exc:
+        raise _front_too_large(exc.at_least, max_front_rows, exact=False) from None
+    if max_front_rows is not None and front.positions.size > max_front_rows:
+        raise _front_too_large(front.positions.size, max_front_rows, exact=True)
 
     base_flat = int(np.ravel_multi_index(base, sizes))
     rows_flat = np.unique(np.concatenate(([base_flat], front.positions, top.positions)))
@@ -146,6 +147,16 @@ def evaluate(
         labels={key: labels[key] for key in keys},
         cautions={name: list(p.calculator.cautions) for name, p in plans.items()
                   if p.calculator.cautions},
+    )
+
+
+def _front_too_large(count: int, limit: int, exact: bool) -> FrontTooLarge:
+    return FrontTooLarge(
+        f"objectives: {'' if exact else 'at least '}{count:,} combinations are on the Pareto front, "
+        f"more than the {limit:,} an answer may hold (combinations with equal objective values "
+        "are all on it); add an objective or a constraint that tells them apart, or shorten "
+        "a list of candidates",
+        loc=("objectives",),
     )
 
 

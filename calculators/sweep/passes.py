@@ -11,9 +11,16 @@ from calculators.sweep.feasibility import evaluate_chunk, front_candidates, gath
 from calculators.sweep.ranking import Ranked, best, chunk_best, merge, row_scores
 
 
-def run_passes(batch, plans, bounds, directions, nullable, chunk_rows, limit, progress):
+def run_passes(batch, plans, bounds, directions, nullable, chunk_rows, limit, progress, *,
+               max_front_rows=None, check=None):
     """Pass 1 over the chunks: counts and the front. Pass 2: the top rows by score, whose scale
-    comes from the whole front (with a single chunk, its arrays are reused instead)."""
+    comes from the whole front (with a single chunk, its arrays are reused instead).
+
+    ``check()`` runs before each chunk and inside the front's work; the front stops with
+    :class:`~calculators.pareto.FrontLimitReached` once it is known to hold more than
+    ``max_front_rows`` (known early with one chunk, whose front is the sweep's; with several,
+    a chunk's front may still lose rows to the others', so only the merged front is limited)."""
+    check = check or (lambda: None)
     n_telescopes, *rest = batch.shape
     per_telescope = math.prod(rest)
     step = max(1, chunk_rows // per_telescope)
@@ -25,6 +32,7 @@ def run_passes(batch, plans, bounds, directions, nullable, chunk_rows, limit, pr
     def chunks():
         nonlocal done
         for start, stop in spans:
+            check()
             chunk = evaluate_chunk(batch, plans, bounds, directions, nullable, start, stop)
             done += 1
             if progress is not None:
@@ -45,14 +53,16 @@ def run_passes(batch, plans, bounds, directions, nullable, chunk_rows, limit, pr
         offset = chunk.start * per_telescope
         local = front_candidates(chunk)
         candidates = Ranked(local + offset, gather(chunk.oriented, chunk.shape, local))
-        fronts.append(candidates.take(front_of(candidates.columns)))
+        fronts.append(candidates.take(front_of(
+            candidates.columns, max_rows=max_front_rows if single else None, check=check)))
         base_at = base_flat - offset
         if 0 <= base_at < math.prod(chunk.shape) and chunk.full[
                 np.unravel_index(base_at, chunk.shape)]:
             base_columns = gather(chunk.oriented, chunk.shape, np.array([base_at]))
 
     front = merge(fronts, k)
-    front = front.take(front_of(front.columns) if front.positions.size else np.zeros(0, bool))
+    front = front.take(front_of(front.columns, max_rows=max_front_rows, check=check)
+                       if front.positions.size else np.zeros(0, bool))
     front = front.take(np.lexsort([front.positions] + front.columns[::-1]))
     # Scale of the score: the ideal point (best value of each objective) and the nadir point
     # (worst value of each objective on the front).

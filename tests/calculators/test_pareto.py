@@ -12,7 +12,7 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from calculators.pareto import non_dominated, non_dominated_columns
+from calculators.pareto import FrontLimitReached, non_dominated, non_dominated_columns
 
 
 def dominates(p, q) -> bool:
@@ -104,3 +104,53 @@ def test_wrong_shapes_are_refused():
         non_dominated_columns([np.zeros(3), np.zeros(4)])
     with pytest.raises(ValueError, match="at least one"):
         non_dominated_columns([])
+
+
+def brute_force(points: np.ndarray) -> np.ndarray:
+    # the definition: a point is on the front when no point is no worse everywhere and better somewhere
+    no_worse = (points[:, None, :] <= points[None, :, :]).all(axis=2)
+    better = (points[:, None, :] < points[None, :, :]).any(axis=2)
+    return ~(no_worse & better).any(axis=0)
+
+
+@pytest.mark.parametrize("k", [3, 5])
+def test_duplicates_share_their_fate_and_the_front_matches_the_definition(k):
+    rng = np.random.default_rng(k)
+    distinct = rng.integers(0, 6, size=(300, k)).astype(float)  # coarse values: many ties
+    points = distinct[rng.integers(0, 300, size=3000)]
+    assert np.array_equal(non_dominated(points), brute_force(points))
+
+
+def test_the_front_stops_as_soon_as_it_passes_the_limit():
+    # 100,000 equal points are all on the front: refused without comparing them pairwise
+    with pytest.raises(FrontLimitReached) as caught:
+        non_dominated(np.ones((100_000, 3)), max_rows=10_000)
+    assert caught.value.at_least > 10_000 and caught.value.limit == 10_000
+    # points on the plane x + y + z = 1 are all on the front; the limit is met, not passed
+    rng = np.random.default_rng(0)
+    plane = rng.random((2000, 3))
+    plane /= plane.sum(axis=1, keepdims=True)
+    assert non_dominated(plane, max_rows=2000).all()
+    with pytest.raises(FrontLimitReached):
+        non_dominated(plane, max_rows=1999)
+    for k in (1, 2):
+        with pytest.raises(FrontLimitReached):
+            non_dominated(np.ones((50, k)), max_rows=49)
+
+
+def test_check_is_called_while_the_front_is_computed_and_can_stop_it():
+    calls = []
+
+    class Stop(Exception):
+        pass
+
+    def check():
+        calls.append(1)
+        if len(calls) > 3:
+            raise Stop
+
+    rng = np.random.default_rng(1)
+    plane = rng.random((5000, 3))
+    plane /= plane.sum(axis=1, keepdims=True)
+    with pytest.raises(Stop):
+        non_dominated(plane, check=check)

@@ -37,7 +37,8 @@ HOST = "127.0.0.1"
 
 # Servers under test must not refuse the load we put on them.
 NO_RATE_LIMITS = {"RIGBENCH_RATE_LIMIT_WRITES_PER_KEY": "", "RIGBENCH_RATE_LIMIT_WRITES_PER_ADDRESS": "",
-                  "RIGBENCH_RATE_LIMIT_FAILED_AUTH": ""}
+                  "RIGBENCH_RATE_LIMIT_FAILED_AUTH": "", "RIGBENCH_RATE_LIMIT_COMPUTE_PER_KEY": "",
+                  "RIGBENCH_RATE_LIMIT_COMPUTE_ANONYMOUS": ""}
 
 
 def free_port() -> int:
@@ -116,7 +117,9 @@ class Server:
         log = open(self.log_path, "ab")
         if self.workers is None:
             command = [sys.executable, "-m", "uvicorn", "--factory", "api.app:create_app", "--host", HOST,
-                       "--port", str(self.port), "--no-access-log", "--log-level", "warning"]
+                       "--port", str(self.port), "--no-access-log", "--log-level", "warning",
+                       # as `rigbench serve` runs it: no proxy headers, the header read timeout
+                       "--no-proxy-headers", "--http", "api.http.server_timeouts:HeaderTimeoutProtocol"]
         else:
             command = [sys.executable, "-m", "api.cli", "serve", "--workers", str(self.workers), "--host", HOST,
                        "--port", str(self.port), "--log-level", "warning"]

@@ -168,15 +168,49 @@ def test_a_deleted_telescope_leaves_the_saved_answer_shown_and_marked(client, al
 
 
 def test_equipment_gone_private_reads_as_gone_for_others_only(client, alice, bob):
-    scope_id, _item = _with_stored_telescope(client, alice, visibility="public")
+    scope_id = stored(client, alice, "telescopes", TELESCOPES[0], "public")
+    public = save(client, alice, visibility="public", telescopes=[{"id": scope_id}, *TELESCOPES[1:]])
     assert client.patch(f"/v1/telescopes/{scope_id}", json={"visibility": "private"},
                         headers=alice.headers).status_code == 200
-    # The saved evaluation is private to alice; a public one shows its copy to anyone.
-    public = save(client, alice, visibility="public", telescopes=[{"id": scope_id}, *TELESCOPES[1:]])
+    # What was published stays published (the copy); the live item is now alice's alone.
     assert client.get(f"/v1/evaluations/saved/{public['id']}").json()["stored_equipment"][0]["status"] == "gone"
     assert client.get(f"/v1/evaluations/saved/{public['id']}",
                       headers=alice.headers).json()["stored_equipment"][0]["status"] == "unchanged"
     assert client.get(public["report_url"], headers=bob.headers).status_code == 200
+
+
+def test_a_public_evaluation_may_use_only_public_stored_equipment(client, alice):
+    scope_id = stored(client, alice, "telescopes", TELESCOPES[0], "private")
+    body = saved_body(visibility="public", telescopes=[{"id": scope_id}, *TELESCOPES[1:]])
+    problem = assert_problem(client.post("/v1/evaluations/saved", json=body, headers=alice.headers), 422,
+                             "telescopes.0.id")
+    assert "private" in problem["detail"]
+    assert client.post("/v1/evaluations/saved", json={**body, "visibility": "private"},
+                       headers=alice.headers).status_code == 201
+
+
+def test_equipment_changed_while_computing_is_a_409_and_nothing_is_stored(app, client, alice):
+    # The check inside the writing transaction: the copies must still be what is stored.
+    from sqlmodel import Session, select
+
+    from api.accounts.keys import authenticate
+    from api.http.problems import ApiProblem
+    from api.evaluations import saved
+    from api.storage.models import SavedEvaluationRow
+
+    scope_id = stored(client, alice, "telescopes", TELESCOPES[0], "private")
+    body = saved.SavedEvaluationCreate.model_validate(saved_body(telescopes=[{"id": scope_id}, *TELESCOPES[1:]]))
+    with Session(app.state.engine) as session:
+        principal = authenticate(session, alice.key)
+    components, _ids, spec, result = saved.compute(app.state.engine, principal, body, registry=app.state.registry,
+                                                   maximum=10_000, max_front_rows=10_000)
+    client.patch(f"/v1/telescopes/{scope_id}", json={"focal_length_mm": 1200}, headers=alice.headers)
+    with Session(app.state.engine) as session:
+        with pytest.raises(ApiProblem) as refused:
+            saved.save(session, principal, body, components, spec.params, result)
+        assert refused.value.status == 409 and "telescopes.0" in refused.value.detail
+    with Session(app.state.engine) as session:
+        assert session.exec(select(SavedEvaluationRow)).all() == []
 
 
 def test_a_rerun_after_a_price_change_says_what_changed(client, alice):
