@@ -108,6 +108,25 @@ def _store(session: Session, principal: Principal, resource: Resource, body: dic
     return insert(session, resource.table, principal, resource.prepare(session, principal, model))
 
 
+#: The club's observing field, an invented suburban site (demo figures).
+DEMO_SITE = {
+    "name": "Kestrel Ridge club field (suburban)", "latitude_deg": 52.0, "elevation_m": 140,
+    "seeing_fwhm_arcsec": 3.0, "sky_brightness_mag_arcsec2": 19.5, "night_temperature_c": 6.0,
+    "relative_humidity_percent": 80,
+}
+
+
+def _seed_site(session: Session, club_as: Principal) -> None:
+    """The club's public observing site, set as its default site."""
+    from api.sites.resource import SITES
+
+    site = _store(session, club_as, SITES, {**DEMO_SITE, "visibility": "public"})
+    club = session.get(Account, club_as.account.id)
+    club.default_site_id = site.id
+    session.add(club)
+    session.commit()
+
+
 def seed_demo(engine: Engine) -> DemoInfo:
     """Create the demo club and member with their equipment, or give them fresh keys if they exist."""
     with Session(engine) as session:
@@ -133,6 +152,8 @@ def seed_demo(engine: Engine) -> DemoInfo:
                 if slot in rig:
                     body[slot] = {"id": ids[rig[slot]]}
             _store(session, club_as, resources.RIGS, body)
+
+        _seed_site(session, club_as)
 
         member, member_key = create_account(
             session, MEMBER, AccountKind.person, display_name="Orla (demo member)", location="Kestrel Ridge",

@@ -9,7 +9,7 @@ from calculators.batch import RigBatch
 from calculators.errors import RigbenchError
 from calculators.schemas import Rig
 from calculators.site import Site, fill_params
-from plugins.null_reasons import explain
+from plugins.null_reasons import Missing, explain
 from plugins.registry import Registry, load_registry
 from plugins.results import Comparison
 from plugins.runner import parse_params, run, to_json_values
@@ -38,9 +38,9 @@ def compare(
 
     >>> from plugins import compare
     >>> rig = {"name": "8-inch", "telescope": {"aperture_mm": "8 in", "focal_length_mm": 1000},
-    ...        "camera": {"pixel_size_um": 3.76, "width_px": 6248, "height_px": 4176}}
+    ...        "camera": {"pixel_size_um": 3.8, "width_px": 6000, "height_px": 4000}}
     >>> compare([rig], ["sampling"]).results["sampling"].outputs["pixel_scale_arcsec"].values
-    [0.7755...]
+    [0.7838...]
     """
     registry = registry or load_registry()
     models = [r if isinstance(r, Rig) else Rig.model_validate(r) for r in rigs]
@@ -66,12 +66,13 @@ def compare(
     parsed = {name: parse_params(calc, params.get(name)) for name, calc in chosen.items()}
     batch = RigBatch.from_rigs(models, baseline=baseline)
     results = {}
+    missing = Missing(batch)
     for name, calc in chosen.items():
         outcome = run(calc, batch, parsed[name])
         units = outcome.units
         labels = {o.name: o.shown_label for o in calc.outputs}
         values = {out: to_json_values(v) for out, v in outcome.values.items()}
-        reasons = explain(calc, batch, parsed[name], values)
+        reasons = explain(calc, batch, parsed[name], values, missing)
         results[name] = {
             "version": calc.version,
             "outputs": {

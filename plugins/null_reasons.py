@@ -20,6 +20,7 @@ Reasons are worked out only for outputs that have a null, so a comparison withou
 from __future__ import annotations
 
 import copy
+import math
 from collections.abc import Mapping, Sequence
 from typing import Any
 
@@ -91,80 +92,90 @@ def columns_read(calculator: Calculator, batch: RigBatch, params: Any) -> frozen
     return found
 
 
-def _missing_flags(batch: RigBatch, column: str) -> list[bool] | None:
-    """Which rigs lack ``column`` (NaN in a float column), worked out once per batch and column."""
-    store = getattr(batch, "derived", None)
-    key = f"{__name__}.missing.{column}"
-    if store is not None and key in store:
-        return store[key]
-    values = batch.columns.get(column)
-    if values is None:
-        flags = None
-    else:
-        flat = np.asarray(values).reshape(-1)
-        flags = np.isnan(flat).tolist() if flat.dtype.kind == "f" else [False] * flat.size
-    if store is not None:
-        store[key] = flags
-    return flags
+class Missing:
+    """Which rigs of a comparison batch lack each column (NaN), worked out once per column and
+    shared by every calculator of one comparison."""
 
+    __slots__ = ("_batch", "_flags", "_texts")
 
-def _missing(batch: RigBatch, column: str, row: int) -> bool:
-    flags = _missing_flags(batch, column)
-    if not flags:
-        return False
-    return flags[row] if len(flags) > 1 else flags[0]
+    def __init__(self, batch: RigBatch):
+        self._batch = batch
+        self._flags: dict[str, list[bool]] = {}
+        self._texts: dict[tuple[str, ...], list[str | None]] = {}
 
+    def flags(self, column: str) -> list[bool]:
+        found = self._flags.get(column)
+        if found is None:
+            values = self._batch.columns.get(column)
+            values = None if values is None else np.asarray(values)
+            if values is None or values.dtype.kind != "f":
+                found = [False] * self._batch.size
+            elif values.shape == self._batch.shape and values.ndim == 1:
+                found = np.isnan(values).tolist()
+            else:
+                found = np.broadcast_to(np.isnan(values), self._batch.shape).reshape(-1).tolist()
+            self._flags[column] = found
+        return found
 
-def _from_columns(batch: RigBatch, columns: Sequence[str], row: int) -> str | None:
-    # Outputs of one calculator mostly share their columns: each (columns, row) is worked out once.
-    store = getattr(batch, "derived", None)
-    if store is None:
-        return _sentence(batch, columns, row)
-    memo = store.setdefault(f"{__name__}.from_columns", {})
-    key = (tuple(columns), row)
-    if key not in memo:
-        memo[key] = _sentence(batch, columns, row)
-    return memo[key]
-
-
-def _sentence(batch: RigBatch, columns: Sequence[str], row: int) -> str | None:
-    if CAMERA_MARK in columns and _missing(batch, CAMERA_MARK, row):
-        return NO_CAMERA
-    missing = [COLUMN_FIELDS.get(c, c) for c in columns if _missing(batch, c, row)]
-    if not missing:
-        return None
-    return "not stated for this rig: " + ", ".join(dict.fromkeys(missing))
+    def reasons(self, columns: tuple[str, ...]) -> list[str | None]:
+        """Per rig, the sentence for lacking some of ``columns`` (None where it lacks none)."""
+        found = self._texts.get(columns)
+        if found is None:
+            no_camera = self.flags(CAMERA_MARK) if CAMERA_MARK in columns else None
+            flags = [(COLUMN_FIELDS.get(c, c), self.flags(c)) for c in columns]
+            found = []
+            for row in range(self._batch.size):
+                if no_camera is not None and no_camera[row]:
+                    found.append(NO_CAMERA)
+                    continue
+                missing = [field for field, lacking in flags if lacking[row]]
+                found.append("not stated for this rig: " + ", ".join(dict.fromkeys(missing)) if missing else None)
+            self._texts[columns] = found
+        return found
 
 
 def explain(
-    calculator: Calculator, batch: RigBatch, params: Any, outputs: Mapping[str, list]
+    calculator: Calculator, batch: RigBatch, params: Any, outputs: Mapping[str, list],
+    missing: Missing | None = None,
 ) -> dict[str, list[str | None]]:
-    """``{output: reasons}`` for each output whose JSON values hold a null (comparison batches)."""
+    """``{output: reasons}`` for each output whose JSON values hold a null (comparison batches).
+
+    ``missing`` may be shared by the calculators of one comparison, so each column is looked at once.
+    """
     nulls = {name: values for name, values in outputs.items() if None in values}
     if not nulls:
         return {}
+    missing = missing or Missing(batch)
     try:
         own = calculator.null_reasons(batch, params) or {}
     except Exception:
         own = {}
     declared = {o.name: o.needs for o in calculator.outputs}
-    read: Sequence[str] | None = None
+    read: list[str | None] | None = None
+    combined: dict[tuple[int, tuple[str, ...]], list[str]] = {}  # outputs often share their reasons
     answer = {}
     for name, values in nulls.items():
         mine = own.get(name)
-        mine = None if mine is None else np.broadcast_to(np.asarray(mine), batch.shape).reshape(-1)
-        reasons: list[str | None] = []
-        for row, value in enumerate(values):
-            if value is not None:
-                reasons.append(None)
-                continue
-            text = str(mine[row]) if mine is not None and mine[row] else None
-            if text is None and declared.get(name):
-                text = _from_columns(batch, declared[name], row)
-            if text is None:
-                if read is None:
-                    read = sorted(columns_read(calculator, batch, params))
-                text = _from_columns(batch, read, row)
-            reasons.append(text or UNDEFINED)
-        answer[name] = reasons
+        needs = tuple(declared.get(name) or ())
+        key = (id(mine), needs)
+        sentences = combined.get(key)
+        if sentences is None:
+            if mine is not None:
+                mine = np.asarray(mine)
+                if mine.shape != batch.shape:
+                    mine = np.broadcast_to(mine, batch.shape).reshape(-1)
+                mine = mine.tolist()
+            by_needs = missing.reasons(needs) if needs else None
+            sentences = []
+            for row in range(batch.size):
+                text = (mine[row] or None) if mine is not None else None
+                if text is None and by_needs is not None:
+                    text = by_needs[row]
+                if text is None:
+                    if read is None:
+                        read = missing.reasons(tuple(sorted(columns_read(calculator, batch, params))))
+                    text = read[row]
+                sentences.append(text or UNDEFINED)
+            combined[key] = sentences
+        answer[name] = [text if value is None else None for value, text in zip(values, sentences)]
     return answer

@@ -158,7 +158,7 @@ class Cost(Calculator):
     >>> from calculators.schemas import Rig
     >>> rig = Rig(name="200 mm", telescope={"aperture_mm": 200, "focal_length_mm": 1000,
     ...           "obstruction_mm": 60, "price": {"amount": 1000, "currency": "EUR"}},
-    ...           camera={"pixel_size_um": 3.76, "width_px": 6248, "height_px": 4176,
+    ...           camera={"pixel_size_um": 3.8, "width_px": 6000, "height_px": 4000,
     ...           "price": {"amount": 800, "currency": "EUR"}})
     >>> batch = RigBatch.from_rigs([rig])
     >>> out = Cost().compute(batch, CostParams())

@@ -20,7 +20,7 @@ stars). To measure errors as small as ``σ_tol`` the guide pixel scale must not 
 with guide pixels of ``p_g`` µm that needs a guide focal length of at least
 ``206.265 · p_g / (σ_tol / c)`` mm.
 
-Example: 3.76 µm pixels at 1000 mm give 0.776″/px; the pixel rule tolerates 0.39″ RMS, the seeing
+Example: 3.8 µm pixels at 1000 mm give 0.784″/px; the pixel rule tolerates 0.39″ RMS, the seeing
 rule for 2″ seeing 0.55″, so the rig tolerates 0.55″ and the guide scale may be up to 2.75″/px
 (≥ 281 mm of focal length for 3.75 µm guide pixels).
 """

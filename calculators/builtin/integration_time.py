@@ -54,10 +54,10 @@ whole.
 time is the CCD equation's per-pixel time divided by ``f`` (``line_pixel_fraction``). A continuum
 and a mono sensor have ``f = 1``.
 
-Example: a 200 mm f/5 newtonian (70 mm obstruction, throughput 0.81) with 3.76 µm pixels (QE 0.8,
+Example: a 200 mm f/5 newtonian (70 mm obstruction, throughput 0.81) with 3.8 µm pixels (QE 0.8,
 1.5 e⁻ read noise) on a 22 mag/arcsec² surface under a 21 mag/arcsec² sky, 88 nm band: about 0.15 e⁻/s
 of object and 0.38 e⁻/s of sky per pixel; S/N 10 takes about 40 minutes (8 subs of 300 s), and subs
-of 58 s or longer are sky-limited.
+of 57 s or longer are sky-limited.
 """
 
 from __future__ import annotations
@@ -68,6 +68,7 @@ from pydantic import Field, ValidationInfo, field_validator, model_validator
 from calculators.base import Calculator, Output
 from calculators.batch import RigBatch
 from calculators.builtin import emission_lines as lines
+from calculators.builtin.cautions import SUN_CAUTION
 from calculators.builtin.light_grasp import clear_area_mm2
 from calculators.builtin.optics import effective_focal_length_mm, pixel_scale_arcsec
 from calculators.schemas import Strict
@@ -77,10 +78,6 @@ PLANCK = 6.62607015e-34
 #: AB zero point: f_ν of magnitude 0, W m⁻² Hz⁻¹ (10^(−48.60/2.5) erg s⁻¹ cm⁻² Hz⁻¹; Oke & Gunn 1983).
 AB_ZERO_POINT_W_M2_HZ = 10 ** (-48.60 / 2.5) * 1e-3
 
-SUN_CAUTION = (
-    "Never point a telescope, finder or camera at or near the Sun without a proper full-aperture "
-    "solar filter made for that purpose: it causes instant, permanent eye injury and destroys cameras."
-)
 
 
 class IntegrationTimeParams(Strict):

@@ -19,6 +19,7 @@ from pydantic import Field
 
 from calculators.base import Calculator, Output
 from calculators.batch import RigBatch, per_batch
+from calculators.builtin.cautions import SUN_CAUTION
 from calculators.schemas import Strict
 
 
@@ -63,6 +64,7 @@ class LightGrasp(Calculator):
         "Area of an annulus π/4·(D² − d²) (plane geometry).",
         "Limiting magnitude 2.7 + 5·log10(D[mm]): common practice (Sinnott 1973 as commonly quoted).",
     )
+    cautions = (SUN_CAUTION,)
 
     def compute(self, batch: RigBatch, params: LightGraspParams) -> dict[str, np.ndarray]:
         area = batch_clear_area_mm2(batch)

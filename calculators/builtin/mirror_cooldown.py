@@ -26,7 +26,7 @@ through the tube's opening is neglected.
   air (derived here; the lumped model gives ``r·τ``).
 
 **Glass properties** (ρ kg/m³, c J/kgK, k W/mK), near room temperature, from memory of Incropera
-et al., Table A.3 (borosilicate: "Pyrex"; plate glass: soda-lime; fused silica: "quartz, fused");
+et al., Table A.3 (borosilicate glass; plate glass: soda-lime; fused silica: "quartz, fused");
 the glass-ceramic figures are typical of zero-expansion glass-ceramics (from memory). They differ by
 less than the uncertainty of ``h``.
 

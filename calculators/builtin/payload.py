@@ -84,8 +84,8 @@ class Payload(Calculator):
     >>> from calculators.batch import RigBatch
     >>> from calculators.schemas import Rig
     >>> rig = Rig(name="8 kg tube", telescope={"aperture_mm": 150, "focal_length_mm": 750,
-    ...           "mass_kg": 8}, camera={"pixel_size_um": 3.76, "width_px": 6248,
-    ...           "height_px": 4176, "mass_kg": 1}, accessories=[{"name": "guider", "mass_kg": 1}],
+    ...           "mass_kg": 8}, camera={"pixel_size_um": 3.8, "width_px": 6000,
+    ...           "height_px": 4000, "mass_kg": 1}, accessories=[{"name": "guider", "mass_kg": 1}],
     ...           mount={"capacity_kg": 20}, geometry={"payload_arm_mm": 300, "counterweight_kg": 10})
     >>> out = Payload().compute(RigBatch.from_rigs([rig]), PayloadParams())
     >>> float(out["capacity_fraction"][0]), round(float(out["payload_moment_nm"][0]), 2)

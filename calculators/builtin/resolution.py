@@ -28,6 +28,7 @@ from pydantic import Field
 
 from calculators.base import Calculator, Output
 from calculators.batch import RigBatch
+from calculators.builtin.cautions import SUN_CAUTION
 from calculators.builtin.optics import ARCSEC_PER_RAD, RAYLEIGH_FACTOR, effective_focal_ratio
 from calculators.schemas import Strict
 
@@ -89,6 +90,7 @@ class Resolution(Calculator):
         "Airy pattern, first dark ring at 1.21967·λ/D.",
         "Seeing-limited when seeing FWHM > Rayleigh limit: common practice.",
     )
+    cautions = (SUN_CAUTION,)
 
     def compute(self, batch: RigBatch, params: ResolutionParams) -> dict[str, np.ndarray]:
         aperture = batch["aperture_mm"]

@@ -98,7 +98,7 @@ class Sampling(Calculator):
     >>> from calculators.batch import RigBatch
     >>> from calculators.schemas import Rig
     >>> rig = Rig(name="1200 mm", telescope={"aperture_mm": 200, "focal_length_mm": 1200},
-    ...           camera={"pixel_size_um": 3.8, "width_px": 4144, "height_px": 2822})
+    ...           camera={"pixel_size_um": 3.8, "width_px": 6000, "height_px": 4000})
     >>> out = Sampling().compute(RigBatch.from_rigs([rig]), SamplingParams())
     >>> round(float(out["pixel_scale_arcsec"][0]), 3), str(out["sampling_verdict"][0])
     (0.653, 'over-sampled')

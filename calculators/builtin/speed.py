@@ -62,7 +62,7 @@ class Speed(Calculator):
 
     >>> from calculators.batch import RigBatch
     >>> from calculators.schemas import Rig
-    >>> cam = {"pixel_size_um": 3.76, "width_px": 6248, "height_px": 4176}
+    >>> cam = {"pixel_size_um": 3.8, "width_px": 6000, "height_px": 4000}
     >>> fast = Rig(name="f/4", telescope={"aperture_mm": 200, "focal_length_mm": 800,
     ...            "throughput": 0.9}, camera=cam)
     >>> slow = Rig(name="f/6.3", telescope={"aperture_mm": 200, "focal_length_mm": 1260,

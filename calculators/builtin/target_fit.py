@@ -20,8 +20,8 @@ effective focal length):
   along the width or along the height) is reported. Plane geometry; the overlap of 10-20 % that
   leaves room to register and blend panels is common practice.
 
-Example: M 33 (62.1′ × 36.7′) with a 200 mm f/5 newtonian and a 23.5 × 15.7 mm sensor (80.7′ × 54.0′):
-it fits, fills 41 % of the field and spans 4 800 pixels of 3.76 µm.
+Example: M 33 (62.1′ × 36.7′) with a 200 mm f/5 newtonian and a 22.8 × 15.2 mm sensor (78.4′ × 52.3′):
+it fits, fills 44 % of the field and spans 4 750 pixels of 3.8 µm.
 """
 
 from __future__ import annotations

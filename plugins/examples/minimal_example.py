@@ -1,7 +1,7 @@
 """A minimal rigbench calculator plugin: the diagonal of each rig's sensor.
 
 Formula: d = p·√(w² + h²) / 1000 [mm], p the pixel pitch in µm, w × h the pixel grid (Pythagoras).
-Example: 3.76 µm pixels in a 6000 × 4000 grid give a 27.11 mm diagonal.
+Example: 3.8 µm pixels in a 6000 × 4000 grid give a 27.40 mm diagonal.
 """
 
 import numpy as np

@@ -88,9 +88,9 @@ def equipment(seed: int = 2024):
             price=eur(aperture**1.6 * rng.uniform(1.5, 3.0)),
         ))
     cameras = [
-        Camera(name=f"camera {i}", pixel_size_um=float(rng.choice([2.4, 2.9, 3.76, 4.63, 5.86, 9.0])),
-               width_px=int(rng.choice([1936, 3096, 4144, 6248, 9576])),
-               height_px=int(rng.choice([1096, 2080, 2822, 4176, 6388])),
+        Camera(name=f"camera {i}", pixel_size_um=float(rng.choice([2.5, 3.0, 3.8, 4.5, 6.0, 9.0])),
+               width_px=int(rng.choice([2000, 3000, 4000, 6000, 9000])),
+               height_px=int(rng.choice([1200, 2000, 3000, 4000, 6000])),
                quantum_efficiency=round(rng.uniform(0.5, 0.9), 2),
                mass_kg=round(rng.uniform(0.2, 1.0), 2), price=eur(rng.uniform(250, 4000)))
         for i in range(SHAPE[1])

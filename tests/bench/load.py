@@ -49,8 +49,8 @@ CORE_CALCULATORS = ["light_grasp", "etendue", "speed", "sampling", "payload", "c
 def comparison_body() -> bytes:
     """Four generic inline rigs (invented specs), every field the six core calculators read."""
     rigs = []
-    for aperture, ratio, pixel, price in ((80, 6, 3.76, 900), (130, 5, 3.76, 1400), (200, 4, 2.9, 2600),
-                                          (300, 4, 4.63, 5200)):
+    for aperture, ratio, pixel, price in ((80, 6, 3.8, 900), (130, 5, 3.8, 1400), (200, 4, 3.0, 2600),
+                                          (300, 4, 4.5, 5200)):
         rigs.append({
             "name": f"{aperture} mm f/{ratio}",
             "telescope": {"aperture_mm": aperture, "focal_length_mm": aperture * ratio,

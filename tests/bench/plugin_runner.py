@@ -27,7 +27,7 @@ RIGS = [
     Rig.model_validate({
         "name": f"{aperture} mm f/5",
         "telescope": {"aperture_mm": aperture, "focal_length_mm": 5 * aperture, "obstruction_mm": aperture / 4},
-        "camera": {"pixel_size_um": 3.76, "width_px": 6000, "height_px": 4000},
+        "camera": {"pixel_size_um": 3.8, "width_px": 6000, "height_px": 4000},
     })
     for aperture in (80, 130, 200, 300)
 ]

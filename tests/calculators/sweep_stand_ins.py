@@ -121,14 +121,12 @@ class Broken(Calculator):
         return {"value": 1 // 0}
 
 
-class Misshapen(Calculator):
+class Misshapen(Broken):
     """Returns an array that cannot broadcast against the batch."""
 
     name = "misshapen"
-    version = "0.0.1"
     summary = "Test stand-in with a wrongly shaped output."
     outputs = (Output("value", "", "Wrong shape."),)
-    sources = ("None.",)
 
     def compute(self, batch: RigBatch, params) -> dict[str, np.ndarray]:
         return {"value": np.zeros((batch.shape[0] + 1,) + (1,) * (len(batch.shape) - 1))}

@@ -9,14 +9,14 @@ from hypothesis import strategies as st
 
 from calculators.batch import AXES, PRICE_SLOTS, RigBatch
 from calculators.schemas import Camera, Modifier, Mount, Rig, Telescope
-from rig_strategies import rig_lists, sweeps
+from plugins.testing import rig_lists, sweeps
 
 SCOPE_200 = Telescope(name="200 mm f/5 newtonian", design="newtonian", aperture_mm=200,
                       focal_length_mm=1000, obstruction_mm=70, mass_kg=9.5,
                       price={"amount": 900, "currency": "EUR"})
 SCOPE_80 = Telescope(name="80 mm f/6 refractor", design="refractor", aperture_mm=80,
                      focal_length_mm=480)
-CAMERA = Camera(pixel_size_um=3.76, width_px=6248, height_px=4176, mass_kg=0.7)
+CAMERA = Camera(pixel_size_um=3.8, width_px=6000, height_px=4000, mass_kg=0.7)
 REDUCER = Modifier(kind="reducer", factor=0.8, mass_kg=0.3)
 MOUNT = Mount(capacity_kg=20, price={"amount": 1500, "currency": "EUR"})
 

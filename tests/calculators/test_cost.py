@@ -9,17 +9,6 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 from pydantic import ValidationError
-from rig_strategies import (
-    assert_batch_equals_single_rigs,
-    assert_outputs_equal,
-    assert_sweep_equals_rigs,
-    compute,
-    in_imperial_units,
-    rig_dicts,
-    rig_lists,
-    rigs,
-    sweeps,
-)
 
 from calculators.base import NoParams
 from calculators.batch import RigBatch
@@ -29,6 +18,7 @@ from calculators.errors import CalculationError
 from calculators.schemas import Camera, Rig, Telescope
 from calculators.units import unit_registry
 from plugins.runner import run
+from plugins.testing import compute, conformance_checks, rigs
 
 CALC = Cost()
 amounts = st.floats(0, 20_000)
@@ -44,7 +34,7 @@ def rig(telescope=None, camera=None, modifier=None, mount=None, accessories=(), 
         "name": "rig",
         "telescope": {"aperture_mm": aperture_mm, "focal_length_mm": 1000, "obstruction_mm": obstruction_mm,
                       "price": price(telescope, currency)},
-        "camera": {"pixel_size_um": 3.76, "width_px": 6248, "height_px": 4176,
+        "camera": {"pixel_size_um": 3.8, "width_px": 6000, "height_px": 4000,
                    "price": price(camera, currency)},
         "accessories": [{"name": "part", "price": price(a, currency)} for a in accessories],
     }
@@ -98,24 +88,10 @@ def test_price_per_cm2_scales_inversely_with_the_clear_area(r, k):
     assert out["price_per_cm2"][1] * k == pytest.approx(out["price_per_cm2"][0], rel=1e-12)
 
 
-@given(rig_lists(max_size=5))
-@settings(deadline=None, max_examples=50)
-def test_batch_results_equal_single_rig_results_row_by_row(rig_list):
-    assert_batch_equals_single_rigs(CALC, rig_list)
-
-
-@given(sweeps())
-@settings(deadline=None, max_examples=40)
-def test_sweep_batch_equals_one_row_per_combination(sweep):
-    assert_sweep_equals_rigs(CALC, *sweep)
-
-
-@given(rig_dicts())
-@settings(deadline=None)
-def test_unit_strings_give_the_same_answer_as_canonical_numbers(data):
-    canonical = outputs(Rig.model_validate(data))
-    imperial = outputs(Rig.model_validate(in_imperial_units(data)))
-    assert_outputs_equal(CALC, imperial, canonical, rtol=1e-12)  # inch round trips: a few ulp
+@pytest.mark.parametrize("check", conformance_checks(Cost), ids=str)
+def test_meets_the_conformance_kit(check):
+    # plugins/testing.py: the contract and the invariants every calculator shares
+    check()
 
 
 # --- references ----------------------------------------------------------------------------------
@@ -189,7 +165,7 @@ def test_a_target_currency_without_rates_refuses_other_currencies():
 
 def test_mixed_currencies_in_a_sweep_are_found_on_the_component_axes():
     scopes = [Telescope(aperture_mm=100, focal_length_mm=500, price=price(300.0, c)) for c in ("EUR", "USD")]
-    cameras = [Camera(pixel_size_um=3.76, width_px=1000, height_px=800, price=price(200.0))]
+    cameras = [Camera(pixel_size_um=3.8, width_px=1000, height_px=800, price=price(200.0))]
     batch = RigBatch.from_components(scopes, cameras)
     with pytest.raises(CalculationError, match="telescope_price"):
         CALC.compute(batch, CostParams())

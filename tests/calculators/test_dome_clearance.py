@@ -4,19 +4,13 @@ import math
 
 import numpy as np
 import pytest
-from example_rigs import (
-    assert_sweep_equals_rows,
-    cameras,
-    demo_rigs,
-    modifiers,
-    outputs,
-    telescopes,
-)
-from hypothesis import given, settings
+from example_rigs import demo_outcome, outputs
+from hypothesis import given
 from hypothesis import strategies as st
 
 from calculators.builtin.dome_clearance import DomeClearance, DomeClearanceParams
 from calculators.schemas import Camera, Mount, Rig, Telescope
+from plugins.testing import conformance_checks
 
 CALC = DomeClearance()
 
@@ -26,7 +20,7 @@ def rig(length_mm=950.0, diameter_mm=235.0, mount_type="german-equatorial") -> R
         name="r",
         telescope=Telescope(aperture_mm=200, focal_length_mm=1000, length_mm=length_mm,
                             tube_diameter_mm=diameter_mm),
-        camera=Camera(pixel_size_um=3.76, width_px=100, height_px=100),
+        camera=Camera(pixel_size_um=3.8, width_px=100, height_px=100),
         mount=Mount(type=mount_type, capacity_kg=20),
     )
 
@@ -96,7 +90,7 @@ def test_fork_mount_has_no_declination_offset():
 
 def test_missing_tube_size_is_unknown():
     bare = Rig(name="r", telescope=Telescope(aperture_mm=200, focal_length_mm=1000),
-               camera=Camera(pixel_size_um=3.76, width_px=100, height_px=100))
+               camera=Camera(pixel_size_um=3.8, width_px=100, height_px=100))
     values = outputs(CALC, [bare])
     assert math.isnan(values["clearance_mm"][0])
     assert values["verdict"][0] == "unknown"
@@ -129,18 +123,13 @@ def test_longer_tube_sweeps_farther(length, diameter, k):
     assert long["swept_radius_mm"][0] > short["swept_radius_mm"][0]
 
 
-@settings(max_examples=25, deadline=None)
-@given(st.lists(telescopes(), min_size=1, max_size=3), st.lists(cameras(), min_size=1, max_size=2),
-       st.lists(modifiers(), min_size=1, max_size=2))
-def test_sweep_batch_equals_single_rig_results(ts, cs, ms):
-    assert_sweep_equals_rows(CALC, ts, cs, ms)
+@pytest.mark.parametrize("check", conformance_checks(DomeClearance), ids=str)
+def test_meets_the_conformance_kit(check):
+    # plugins/testing.py: the contract and the invariants every calculator shares
+    check()
 
 
 def test_runs_through_compare_with_default_params():
-    from plugins.compare import compare
-
-    result = compare(demo_rigs(), calculators=["dome_clearance"])
-    outcome = result.results["dome_clearance"]
-    assert outcome.error is None
+    outcome = demo_outcome("dome_clearance")
     assert any("building codes" in c for c in outcome.cautions)
     assert outcome.outputs["verdict"].values[0] == "clear"

@@ -5,8 +5,8 @@ import math
 import astropy.constants as const
 import numpy as np
 import pytest
-from example_rigs import assert_sweep_equals_rows, cameras, demo_rigs, modifiers, outputs, telescopes
-from hypothesis import given, settings
+from example_rigs import demo_outcome, outputs
+from hypothesis import given
 from hypothesis import strategies as st
 
 from calculators.builtin.mirror_cooldown import (
@@ -19,6 +19,7 @@ from calculators.builtin.mirror_cooldown import (
     radiative_conductance_w_m2k,
 )
 from calculators.schemas import Camera, Rig, Telescope
+from plugins.testing import conformance_checks
 
 CALC = MirrorCooldown()
 
@@ -28,7 +29,7 @@ def rig(thickness_mm) -> Rig:
         name="r",
         telescope=Telescope(design="newtonian", aperture_mm=250, focal_length_mm=1200, obstruction_mm=60,
                             mirror_thickness_mm=thickness_mm),
-        camera=Camera(pixel_size_um=3.76, width_px=100, height_px=100),
+        camera=Camera(pixel_size_um=3.8, width_px=100, height_px=100),
     )
 
 
@@ -124,7 +125,7 @@ def test_lag_behind_falling_air_matches_the_heat_equation(thickness_mm, h):
 
 def test_missing_thickness_gives_nulls():
     values = outputs(CALC, [Rig(name="r", telescope=Telescope(aperture_mm=100, focal_length_mm=600),
-                                camera=Camera(pixel_size_um=3.76, width_px=10, height_px=10))])
+                                camera=Camera(pixel_size_um=3.8, width_px=10, height_px=10))])
     assert math.isnan(values["time_constant_minutes"][0])
     assert math.isnan(values["settle_time_fan_minutes"][0])
     assert values["model_note"][0] == "unknown (mirror thickness not stated)"
@@ -165,19 +166,14 @@ def test_each_factor_e_of_initial_difference_adds_one_slowest_mode_time(thicknes
     assert a["time_constant_minutes"][0] <= added <= a["time_constant_minutes"][0] * (1 + a["biot_number"][0] / 2)
 
 
-@settings(max_examples=25, deadline=None)
-@given(st.lists(telescopes(), min_size=1, max_size=3), st.lists(cameras(), min_size=1, max_size=2),
-       st.lists(modifiers(), min_size=1, max_size=2))
-def test_sweep_batch_equals_single_rig_results(ts, cs, ms):
-    assert_sweep_equals_rows(CALC, ts, cs, ms)
+@pytest.mark.parametrize("check", conformance_checks(MirrorCooldown), ids=str)
+def test_meets_the_conformance_kit(check):
+    # plugins/testing.py: the contract and the invariants every calculator shares
+    check()
 
 
 def test_runs_through_compare_with_default_params():
-    from plugins.compare import compare
-
-    result = compare(demo_rigs(), calculators=["mirror_cooldown"])
-    outcome = result.results["mirror_cooldown"]
-    assert outcome.error is None
+    outcome = demo_outcome("mirror_cooldown")
     assert outcome.outputs["time_constant_minutes"].unit == "min"
     assert outcome.outputs["time_constant_minutes"].values[2] is None  # the refractor states no mirror
     assert outcome.outputs["time_constant_minutes"].values[0] > 0

@@ -10,17 +10,6 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 from pydantic import ValidationError
-from rig_strategies import (
-    assert_batch_equals_single_rigs,
-    assert_outputs_equal,
-    assert_sweep_equals_rigs,
-    compute,
-    in_imperial_units,
-    rig_dicts,
-    rig_lists,
-    rigs,
-    sweeps,
-)
 
 from calculators.batch import RigBatch
 from calculators.builtin.payload import (
@@ -32,6 +21,7 @@ from calculators.builtin.payload import (
 )
 from calculators.schemas import Rig
 from calculators.units import unit_registry
+from plugins.testing import compute, conformance_checks, rigs
 
 CALC = Payload()
 OUTPUTS = [o.name for o in CALC.outputs]
@@ -44,7 +34,7 @@ def rig(telescope_kg=8.0, camera_kg=0.8, modifier_kg=None, accessories=(), capac
         "name": "200 mm f/5 newtonian on a german-equatorial mount",
         "telescope": {"aperture_mm": 200, "focal_length_mm": 1000, "mass_kg": telescope_kg,
                       "length_mm": length_mm, "tube_diameter_mm": diameter_mm},
-        "camera": {"pixel_size_um": 3.76, "width_px": 6248, "height_px": 4176, "mass_kg": camera_kg},
+        "camera": {"pixel_size_um": 3.8, "width_px": 6000, "height_px": 4000, "mass_kg": camera_kg},
         "accessories": [{"name": f"accessory {i}", "mass_kg": m} for i, m in enumerate(accessories)],
     }
     if modifier_kg is not None:
@@ -128,24 +118,10 @@ def test_outputs_are_null_exactly_where_an_input_is_missing(r):
     assert math.isnan(out["payload_moment_nm"]) == (not masses_known or r.geometry is None)
 
 
-@given(rig_lists(max_size=5))
-@settings(deadline=None, max_examples=50)
-def test_batch_results_equal_single_rig_results_row_by_row(rig_list):
-    assert_batch_equals_single_rigs(CALC, rig_list)
-
-
-@given(sweeps())
-@settings(deadline=None, max_examples=40)
-def test_sweep_batch_equals_one_row_per_combination(sweep):
-    assert_sweep_equals_rigs(CALC, *sweep)
-
-
-@given(rig_dicts(complete=True))
-@settings(deadline=None)
-def test_unit_strings_give_the_same_answer_as_canonical_numbers(data):
-    canonical = outputs(Rig.model_validate(data))
-    imperial = outputs(Rig.model_validate(in_imperial_units(data)))
-    assert_outputs_equal(CALC, imperial, canonical, rtol=1e-12)  # inch/pound round trips: a few ulp
+@pytest.mark.parametrize("check", conformance_checks(Payload), ids=str)
+def test_meets_the_conformance_kit(check):
+    # plugins/testing.py: the contract and the invariants every calculator shares
+    check()
 
 
 # --- references ----------------------------------------------------------------------------------

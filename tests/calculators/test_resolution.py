@@ -5,27 +5,19 @@ import math
 import astropy.units as u
 import numpy as np
 import pytest
-from example_rigs import (
-    assert_sweep_equals_rows,
-    camera_376,
-    cameras,
-    modifiers,
-    newtonian_200_f5,
-    outputs,
-    refractor_80_f6,
-    telescopes,
-)
-from hypothesis import given, settings
+from example_rigs import cooled_camera, demo_outcome, demo_rigs, newtonian_200_f5, outputs, refractor_80_f6
+from hypothesis import given
 from hypothesis import strategies as st
 
 from calculators.builtin.optics import ARCSEC_PER_RAD, BESSEL_J1_FIRST_ZERO, RAYLEIGH_FACTOR
 from calculators.builtin.resolution import Resolution, ResolutionParams
 from calculators.schemas import Camera, Modifier, Rig, Telescope
+from plugins.testing import conformance_checks
 
 CALC = Resolution()
 
 
-def rig(aperture_mm, focal_length_mm, pixel_size_um=3.76, modifier=None) -> Rig:
+def rig(aperture_mm, focal_length_mm, pixel_size_um=3.8, modifier=None) -> Rig:
     return Rig(
         name=f"{aperture_mm} mm",
         telescope=Telescope(aperture_mm=aperture_mm, focal_length_mm=focal_length_mm),
@@ -82,8 +74,8 @@ def test_airy_diameter_at_f8_and_550_nm():
     # Born & Wolf §8.5.2: Airy disc diameter 2.43934·λ·N = 10.733 µm at f/8 and 550 nm (as quoted in
     # issue 5 to 5 figures: half a unit in the last place).
     assert values["airy_diameter_um"][0] == pytest.approx(10.733, abs=5e-4)
-    # In pixels of 3.76 µm: the same figure divided by the pitch.
-    assert values["airy_diameter_px"][0] == pytest.approx(10.733 / 3.76, abs=5e-4 / 3.76)
+    # In pixels of 3.8 µm: the same figure divided by the pitch.
+    assert values["airy_diameter_px"][0] == pytest.approx(10.733 / 3.8, abs=5e-4 / 3.8)
 
 
 def test_airy_diameter_uses_the_effective_focal_ratio():
@@ -139,27 +131,20 @@ def test_rayleigh_is_proportional_to_wavelength(aperture, wavelength, factor):
     np.testing.assert_allclose(long["dawes_arcsec"], short["dawes_arcsec"], rtol=0)
 
 
-@settings(max_examples=25, deadline=None)
-@given(st.lists(telescopes(), min_size=1, max_size=3), st.lists(cameras(), min_size=1, max_size=2),
-       st.lists(modifiers(), min_size=1, max_size=2))
-def test_sweep_batch_equals_single_rig_results(ts, cs, ms):
-    assert_sweep_equals_rows(CALC, ts, cs, ms)
+@pytest.mark.parametrize("check", conformance_checks(Resolution), ids=str)
+def test_meets_the_conformance_kit(check):
+    # plugins/testing.py: the contract and the invariants every calculator shares
+    check()
 
 
 def test_demo_rigs_compute_with_default_params():
-    values = outputs(CALC, [Rig(name="a", telescope=newtonian_200_f5(), camera=camera_376()),
-                            Rig(name="b", telescope=refractor_80_f6(), camera=camera_376())])
+    values = outputs(CALC, [Rig(name="a", telescope=newtonian_200_f5(), camera=cooled_camera()),
+                            Rig(name="b", telescope=refractor_80_f6(), camera=cooled_camera())])
     assert np.isfinite(values["rayleigh_arcsec"]).all()
     assert math.isclose(values["dawes_arcsec"][0], 116 / 200)
 
 
 def test_runs_through_compare_with_default_params():
-    from example_rigs import demo_rigs
-
-    from plugins.compare import compare
-
-    result = compare(demo_rigs()[:2], calculators=["resolution"])
-    outcome = result.results["resolution"]
-    assert outcome.error is None
+    outcome = demo_outcome("resolution", demo_rigs()[:2])
     assert outcome.outputs["rayleigh_arcsec"].unit == "arcsec"
     assert len(outcome.outputs["airy_diameter_um"].values) == 2

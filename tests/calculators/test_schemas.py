@@ -16,10 +16,10 @@ from calculators.schemas import (
     Rig,
     Telescope,
 )
-from rig_strategies import KG_PER_POUND, MM_PER_INCH, in_imperial_units, rig_dicts
+from plugins.testing import KG_PER_POUND, MM_PER_INCH, in_imperial_units, rig_dicts
 
 TELESCOPE = {"aperture_mm": 200, "focal_length_mm": 1000}
-CAMERA = {"pixel_size_um": 3.76, "width_px": 6248, "height_px": 4176}
+CAMERA = {"pixel_size_um": 3.8, "width_px": 6000, "height_px": 4000}
 
 
 def rig(**parts) -> dict:
@@ -43,7 +43,7 @@ def error_locs(excinfo) -> list[tuple]:
         ("telescope", "length_mm", "3 ft", 36 * MM_PER_INCH),
         ("telescope", "tube_diameter_mm", "23 cm", 230.0),
         ("telescope", "mirror_thickness_mm", "1 in", MM_PER_INCH),
-        ("camera", "pixel_size_um", "0.00376 mm", 3.76),
+        ("camera", "pixel_size_um", "0.0038 mm", 3.8),
         ("camera", "mass_kg", "700 g", 0.7),
     ],
 )
@@ -101,7 +101,7 @@ def test_unit_strings_give_the_same_rig_as_canonical_numbers(data):
         (("telescope", "aperture_mm"), -200, "greater than 0"),
         (("telescope", "throughput"), 1.2, "less than or equal to 1"),
         (("telescope", "throughput"), float("nan"), "finite"),
-        (("camera", "pixel_size_um"), "3.76 kg", "mass, expected a length"),
+        (("camera", "pixel_size_um"), "3.8 kg", "mass, expected a length"),
         (("camera", "pixel_size_um"), float("nan"), "finite"),
         (("camera", "width_px"), 0, "greater than 0"),
         (("camera", "height_px"), -10, "greater than 0"),
@@ -198,4 +198,4 @@ def test_modifier_throughput_defaults_per_kind(kind):
 
 def test_an_unobstructed_telescope_has_zero_obstruction_and_every_part_may_be_named():
     assert Telescope(**TELESCOPE).obstruction_mm == 0.0
-    assert Camera(name="3.76 µm camera", **CAMERA).name == "3.76 µm camera"
+    assert Camera(name="3.8 µm camera", **CAMERA).name == "3.8 µm camera"

@@ -5,28 +5,18 @@ from __future__ import annotations
 import pytest
 from hypothesis import assume, given, settings
 from hypothesis import strategies as st
-from rig_strategies import (
-    assert_batch_equals_single_rigs,
-    assert_outputs_equal,
-    assert_sweep_equals_rigs,
-    compute,
-    in_imperial_units,
-    rig_dicts,
-    rig_lists,
-    rigs,
-    sweeps,
-)
 
 from calculators.base import NoParams
 from calculators.batch import RigBatch
 from calculators.builtin.speed import Speed
 from calculators.schemas import Rig
+from plugins.testing import compute, conformance_checks, rigs
 
 CALC = Speed()
 TIME_FACTORS = ("time_factor_per_pixel", "time_factor_per_arcsec2")
 
 
-def rig(aperture_mm, focal_length_mm, pixel_um=3.76, obstruction_mm=0.0, throughput=0.9,
+def rig(aperture_mm, focal_length_mm, pixel_um=3.8, obstruction_mm=0.0, throughput=0.9,
         modifier=None) -> Rig:
     return Rig(
         name="rig",
@@ -74,20 +64,10 @@ def test_time_factor_per_pixel_is_the_focal_ratio_squared_for_equal_pixels_and_t
     assert out["time_factor_per_pixel"][1] == pytest.approx((n1 / n0) ** 2, rel=1e-12)
 
 
-@given(rigs())
-@settings(deadline=None)
-def test_time_factors_of_a_rig_against_itself_are_one(r):
-    out = outputs(r, r)
-    for name in TIME_FACTORS:
-        assert out[name].tolist() == [1.0, 1.0]
-
-
-@given(rigs(), rigs(), rigs())
-@settings(deadline=None, max_examples=50)
-def test_time_factors_multiply_through_a_third_rig(a, b, c):
-    via_a, via_b = outputs(a, b, c), outputs(a, b, c, baseline=1)
-    for name in TIME_FACTORS:
-        assert via_a[name][2] == pytest.approx(via_b[name][2] * via_a[name][1], rel=1e-14)
+@pytest.mark.parametrize("check", conformance_checks(Speed), ids=str)
+def test_meets_the_conformance_kit(check):
+    # plugins/testing.py: the contract and the invariants every calculator shares
+    check()
 
 
 @given(rigs(), st.floats(0.5, 1.0))
@@ -112,26 +92,6 @@ def test_time_factors_are_inversely_proportional_to_throughput(r, tau):
     out = outputs(full, lossy)
     for name in TIME_FACTORS:
         assert out[name][1] == pytest.approx(1 / tau, rel=1e-12)
-
-
-@given(rig_lists(max_size=5))
-@settings(deadline=None, max_examples=50)
-def test_batch_results_equal_single_rig_results_row_by_row(rig_list):
-    assert_batch_equals_single_rigs(CALC, rig_list)
-
-
-@given(sweeps())
-@settings(deadline=None, max_examples=40)
-def test_sweep_batch_equals_one_row_per_combination(sweep):
-    assert_sweep_equals_rigs(CALC, *sweep)
-
-
-@given(rig_dicts())
-@settings(deadline=None)
-def test_unit_strings_give_the_same_answer_as_canonical_numbers(data):
-    canonical = outputs(Rig.model_validate(data))
-    imperial = outputs(Rig.model_validate(in_imperial_units(data)))
-    assert_outputs_equal(CALC, imperial, canonical, rtol=1e-12)  # a few ulp from inch round trips
 
 
 # --- references ----------------------------------------------------------------------------------

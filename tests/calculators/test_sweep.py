@@ -65,7 +65,7 @@ telescopes = st.builds(
 cameras = st.builds(
     lambda pixel, mass, price: Camera(pixel_size_um=pixel, width_px=4000, height_px=3000,
                                       mass_kg=mass, price=eur(price)),
-    st.sampled_from([2.9, 3.76, 4.63]), st.sampled_from([0.4, 0.7]), st.sampled_from([300.0, 800.0]),
+    st.sampled_from([3.0, 3.8, 4.5]), st.sampled_from([0.4, 0.7]), st.sampled_from([300.0, 800.0]),
 )
 modifiers = st.one_of(st.none(), st.builds(
     lambda factor, mass, price: Modifier(kind="reducer" if factor < 1 else "barlow", factor=factor,
@@ -215,7 +215,7 @@ def test_results_do_not_depend_on_chunk_size(case, data):
 
 def test_progress_reports_every_chunk_of_both_passes():
     scopes = [Telescope(aperture_mm=100 + 10 * i, focal_length_mm=600) for i in range(5)]
-    camera = [Camera(pixel_size_um=3.76, width_px=10, height_px=10)]
+    camera = [Camera(pixel_size_um=3.8, width_px=10, height_px=10)]
 
     def calls(**options):
         seen = []
@@ -268,7 +268,7 @@ def test_each_kind_lies_on_its_own_axis_and_chunks_bound_the_batch():
 def test_null_modifier_leaves_the_focal_ratio_of_the_telescope():
     # Definition of the focal ratio N = f/D: 1000 mm / 200 mm = 5; a ×0.8 reducer gives f/4.
     scope = Telescope(aperture_mm=200, focal_length_mm=1000)
-    result = evaluate([scope], [Camera(pixel_size_um=3.76, width_px=10, height_px=10)],
+    result = evaluate([scope], [Camera(pixel_size_um=3.8, width_px=10, height_px=10)],
                       [None, Modifier(kind="reducer", factor=0.8)],
                       objectives={"optics.focal_ratio": "min"}, calculators=CALCULATORS)
     assert result.baseline.values == {"optics.focal_ratio": 5.0}
@@ -279,7 +279,7 @@ def test_a_combination_the_rig_schema_refuses_is_never_feasible():
     # f/1 with a ×0.4 reducer would be f/0.4, below the 0.5 minimum the Rig schema enforces.
     scope = Telescope(aperture_mm=100, focal_length_mm=100)
     reducer = Modifier(kind="reducer", factor=0.4)
-    camera = Camera(pixel_size_um=3.76, width_px=10, height_px=10)
+    camera = Camera(pixel_size_um=3.8, width_px=10, height_px=10)
     with pytest.raises(ValueError, match="below the physical minimum"):
         Rig(name="too fast", telescope=scope, modifier=reducer, camera=camera)
     result = evaluate([scope], [camera], [None, reducer],
@@ -291,7 +291,7 @@ def test_a_combination_the_rig_schema_refuses_is_never_feasible():
 def test_equal_objective_values_are_all_on_the_front():
     same = Telescope(aperture_mm=150, focal_length_mm=750)
     result = evaluate([same, Telescope(aperture_mm=100, focal_length_mm=500), same],
-                      [Camera(pixel_size_um=3.76, width_px=10, height_px=10)],
+                      [Camera(pixel_size_um=3.8, width_px=10, height_px=10)],
                       objectives={"light_grasp.clear_area_mm2": "max"}, calculators=CALCULATORS)
     assert [r.indices.telescope for r in result.front] == [0, 2]
 
@@ -300,7 +300,7 @@ def test_relative_outputs_are_against_the_chosen_baseline():
     # Clear area π/4·D²: a 200 mm aperture collects (200/100)² = 4 times a 100 mm one.
     scopes = [Telescope(aperture_mm=100, focal_length_mm=500),
               Telescope(aperture_mm=200, focal_length_mm=1000)]
-    camera = [Camera(pixel_size_um=3.76, width_px=10, height_px=10)]
+    camera = [Camera(pixel_size_um=3.8, width_px=10, height_px=10)]
     for baseline, expected in (((0, 0, 0, 0), 4.0), ((1, 0, 0, 0), 1.0)):
         result = evaluate(scopes, camera, objectives={"light_grasp.area_ratio": "max"},
                           baseline=baseline, calculators=CALCULATORS, chunk_rows=1)
@@ -312,7 +312,7 @@ def test_inline_request_model_runs_and_the_result_validates():
     request = InlineEvaluationRequest.model_validate({
         "telescopes": [{"aperture_mm": "8 in", "focal_length_mm": 1000, "price":
                         {"amount": 900, "currency": "EUR"}}],
-        "cameras": [{"pixel_size_um": 3.76, "width_px": 6248, "height_px": 4176}],
+        "cameras": [{"pixel_size_um": 3.8, "width_px": 6000, "height_px": 4000}],
         "modifiers": [None, {"kind": "reducer", "factor": 0.8}],
         "mounts": [{"capacity_kg": 15, "mass_kg": 12}],
         "constraints": {"optics.pixel_scale_arcsec": {"min": 0.5}},
@@ -334,7 +334,7 @@ def test_inline_request_model_runs_and_the_result_validates():
 
 def test_cautions_of_the_calculators_used_are_returned():
     result = evaluate([Telescope(aperture_mm=100, focal_length_mm=500, mass_kg=3)],
-                      [Camera(pixel_size_um=3.76, width_px=10, height_px=10, mass_kg=0.5)],
+                      [Camera(pixel_size_um=3.8, width_px=10, height_px=10, mass_kg=0.5)],
                       mounts=[Mount(capacity_kg=10)],
                       objectives={"load.capacity_fraction": "min"}, calculators=CALCULATORS)
     assert result.cautions == {"load": list(CALCULATORS["load"].cautions)}
@@ -344,7 +344,7 @@ def test_cautions_of_the_calculators_used_are_returned():
 
 SCOPES = [Telescope(aperture_mm=100, focal_length_mm=500, price=eur(400)),
           Telescope(aperture_mm=150, focal_length_mm=750, price=eur(700))]
-CAMS = [Camera(pixel_size_um=3.76, width_px=10, height_px=10)]
+CAMS = [Camera(pixel_size_um=3.8, width_px=10, height_px=10)]
 GOOD = {"light_grasp.clear_area_mm2": "max"}
 
 

@@ -5,8 +5,8 @@ import math
 import astropy.units as u
 import numpy as np
 import pytest
-from example_rigs import assert_sweep_equals_rows, cameras, demo_rigs, modifiers, outputs, telescopes
-from hypothesis import given, settings
+from example_rigs import demo_outcome, demo_rigs, outputs
+from hypothesis import given
 from hypothesis import strategies as st
 from pydantic import ValidationError
 from pyongc import ongc
@@ -15,11 +15,12 @@ from calculators.builtin.target_fit import DEFAULT_TARGET, TargetFit, TargetFitP
 from calculators.schemas import Camera, Modifier, Rig, Telescope
 from plugins.compare import compare
 from plugins.runner import InvalidParams
+from plugins.testing import conformance_checks
 
 CALC = TargetFit()
 
 
-def rig(focal_length_mm=1000.0, pixel_um=3.76, width=6248, height=4176) -> Rig:
+def rig(focal_length_mm=1000.0, pixel_um=3.8, width=6000, height=4000) -> Rig:
     return Rig(
         name="r",
         telescope=Telescope(aperture_mm=200, focal_length_mm=focal_length_mm),
@@ -61,11 +62,11 @@ def test_default_target_is_named_in_the_docstring():
 
 def test_field_and_pixels_through_astropy_units():
     values = outputs(CALC, [rig()], TargetFitParams(target="NGC 891"))
-    # astropy.units: the field is 2·atan(W/2f) for W = 6248 × 3.76 µm at 1000 mm (exact geometry).
-    width = 2 * np.arctan((6248 * 3.76 * u.um / (2 * 1000 * u.mm)).decompose().value) * u.rad
+    # astropy.units: the field is 2·atan(W/2f) for W = 6000 × 3.8 µm at 1000 mm (exact geometry).
+    width = 2 * np.arctan((6000 * 3.8 * u.um / (2 * 1000 * u.mm)).decompose().value) * u.rad
     assert values["field_width_arcmin"][0] == pytest.approx(width.to_value(u.arcmin), rel=1e-12)
-    # Pixels across 13.03′ at 206 264.806″ × 3.76e-3 mm / 1000 mm per pixel (astropy's arcsec/rad).
-    scale = (3.76 * u.um / (1000 * u.mm) * u.rad).to_value(u.arcsec)
+    # Pixels across 13.03′ at 206 264.806″ × 3.8e-3 mm / 1000 mm per pixel (astropy's arcsec/rad).
+    scale = (3.8 * u.um / (1000 * u.mm) * u.rad).to_value(u.arcsec)
     major, _, _ = ongc.Dso("NGC891").dimensions
     assert values["major_axis_px"][0] == pytest.approx(major * 60 / scale, rel=1e-12)
 
@@ -122,22 +123,19 @@ def test_pixels_across_the_object_grow_with_focal_length(focal, pixel, k):
 def test_a_modifier_acts_as_a_change_of_focal_length(focal, factor):
     modified = Rig(name="m", telescope=Telescope(aperture_mm=200, focal_length_mm=focal),
                    modifier=Modifier(kind="barlow" if factor > 1 else "reducer", factor=factor),
-                   camera=Camera(pixel_size_um=3.76, width_px=6248, height_px=4176))
+                   camera=Camera(pixel_size_um=3.8, width_px=6000, height_px=4000))
     np.testing.assert_allclose(outputs(CALC, [modified])["fill_fraction"],
                                outputs(CALC, [rig(focal * factor)])["fill_fraction"], rtol=1e-12)
 
 
-@settings(max_examples=25, deadline=None)
-@given(st.lists(telescopes(), min_size=1, max_size=3), st.lists(cameras(), min_size=1, max_size=2),
-       st.lists(modifiers(), min_size=1, max_size=2))
-def test_sweep_batch_equals_single_rig_results(ts, cs, ms):
-    assert_sweep_equals_rows(CALC, ts, cs, ms)
+@pytest.mark.parametrize("check", conformance_checks(TargetFit), ids=str)
+def test_meets_the_conformance_kit(check):
+    # plugins/testing.py: the contract and the invariants every calculator shares
+    check()
 
 
 def test_runs_through_compare_with_default_params():
-    result = compare(demo_rigs(), calculators=["target_fit"])
-    outcome = result.results["target_fit"]
-    assert outcome.error is None
+    outcome = demo_outcome("target_fit")
     assert any("full-aperture solar filter" in c for c in outcome.cautions)
     assert outcome.outputs["target_name"].values[0].startswith("NGC 598")
     assert len(outcome.outputs["panels"].values) == 3

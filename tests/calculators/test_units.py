@@ -40,8 +40,8 @@ def test_pound_is_exactly_0_45359237_kg():
         ("27 lb", "kg", 27 * u.imperial.pound),
         ("500 g", "kg", 500 * u.g),
         ("0.3 m", "mm", 0.3 * u.m),
-        ("3.76 um", "um", 3.76 * u.um),
-        ("0.00376 mm", "um", 0.00376 * u.mm),
+        ("3.8 um", "um", 3.8 * u.um),
+        ("0.0038 mm", "um", 0.0038 * u.mm),
     ],
 )
 def test_conversions_agree_with_astropy_units(text, unit, reference):

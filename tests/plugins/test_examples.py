@@ -28,7 +28,7 @@ RIGS = [
      "camera": {"pixel_size_um": 1.0, "width_px": 3000, "height_px": 4000}},
     {"name": "80 mm f/6 refractor",
      "telescope": {"design": "refractor", "aperture_mm": 80, "focal_length_mm": 480},
-     "camera": {"pixel_size_um": 3.76, "width_px": 6000, "height_px": 4000}},
+     "camera": {"pixel_size_um": 3.8, "width_px": 6000, "height_px": 4000}},
 ]
 DEW_OUTPUTS = {"dew_point_c": "degC", "optics_temperature_c": "degC", "dew_margin_k": "K",
                "dew_risk": "", "heating_power_w": "W"}
@@ -46,7 +46,7 @@ def test_the_minimal_example_loads_and_computes_through_compare():
     # Pythagoras: a 3000 × 4000 grid of 1 µm pixels is a 3-4-5 triangle, 5 mm across; the second is
     # computed independently with math.hypot. 1e-12 relative covers float rounding.
     assert result.outputs["sensor_diagonal_mm"].values == pytest.approx(
-        [5.0, 3.76 * math.hypot(6000, 4000) / 1000], rel=1e-12
+        [5.0, 3.8 * math.hypot(6000, 4000) / 1000], rel=1e-12
     )
 
 

@@ -11,10 +11,10 @@ from plugins.registry import CalculatorEntry, Registry
 
 FULL = {"name": "full", "telescope": {"aperture_mm": 200, "focal_length_mm": 1000, "obstruction_mm": 70,
                                       "mass_kg": 9, "tube_diameter_mm": 235, "length_mm": 950},
-        "camera": {"pixel_size_um": 3.76, "width_px": 6000, "height_px": 4000, "quantum_efficiency": 0.8,
+        "camera": {"pixel_size_um": 3.8, "width_px": 6000, "height_px": 4000, "quantum_efficiency": 0.8,
                    "read_noise_e": 1.5, "dark_current_e_per_s": 0.003, "mass_kg": 0.7}}
 BARE = {"name": "bare", "telescope": {"aperture_mm": 100, "focal_length_mm": 500},
-        "camera": {"pixel_size_um": 2.9, "width_px": 2000, "height_px": 1000}}
+        "camera": {"pixel_size_um": 3.0, "width_px": 2000, "height_px": 1000}}
 
 
 def test_a_missing_camera_figure_is_named_for_that_rig_only():

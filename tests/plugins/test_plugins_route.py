@@ -97,7 +97,7 @@ def test_the_real_app_lists_a_broken_plugin_as_failed_while_comparisons_still_wo
     ])
     rig = {"name": "200 mm f/5 newtonian",
            "telescope": {"aperture_mm": 200, "focal_length_mm": 1000, "obstruction_mm": 44},
-           "camera": {"pixel_size_um": 3.76, "width_px": 6000, "height_px": 4000}}
+           "camera": {"pixel_size_um": 3.8, "width_px": 6000, "height_px": 4000}}
     with TestClient(app) as client:
         listing = client.get("/v1/plugins")
         comparison = client.post("/v1/comparisons", json={"rigs": [rig], "calculators": ["light_grasp", "raises"]})
@@ -133,9 +133,9 @@ def test_the_installed_example_plugin_is_listed_and_computes_through_the_api(tmp
     db.upgrade(app.state.engine)
     rigs = [
         {"name": "200 mm f/5 newtonian", "telescope": {"aperture_mm": 200, "focal_length_mm": 1000},
-         "camera": {"pixel_size_um": 3.76, "width_px": 6000, "height_px": 4000}},
+         "camera": {"pixel_size_um": 3.8, "width_px": 6000, "height_px": 4000}},
         {"name": "100 mm f/6 refractor", "telescope": {"aperture_mm": 100, "focal_length_mm": 600},
-         "camera": {"pixel_size_um": 3.76, "width_px": 6000, "height_px": 4000}},
+         "camera": {"pixel_size_um": 3.8, "width_px": 6000, "height_px": 4000}},
     ]
     with TestClient(app) as client:
         listing = client.get("/v1/plugins")

@@ -26,10 +26,10 @@ from plugins.runner import InvalidParams, parse_params, run, to_json_values
 RIGS = [
     {"name": "200 mm f/5 newtonian",
      "telescope": {"design": "newtonian", "aperture_mm": 200, "focal_length_mm": 1000, "obstruction_mm": 44},
-     "camera": {"pixel_size_um": 3.76, "width_px": 6000, "height_px": 4000}},
+     "camera": {"pixel_size_um": 3.8, "width_px": 6000, "height_px": 4000}},
     {"name": "102 mm f/7 refractor",
      "telescope": {"design": "refractor", "aperture_mm": 102, "focal_length_mm": 714},
-     "camera": {"pixel_size_um": 2.9, "width_px": 4000, "height_px": 3000}},
+     "camera": {"pixel_size_um": 3.0, "width_px": 4000, "height_px": 3000}},
 ]
 
 
@@ -165,7 +165,7 @@ def test_built_ins_run_in_the_caller_s_thread_and_plugins_in_a_worker():
 
 def test_outputs_may_broadcast_over_a_sweep_batch():
     telescopes = [Telescope(aperture_mm=200, focal_length_mm=1000), Telescope(aperture_mm=80, focal_length_mm=480)]
-    cameras = [Camera(pixel_size_um=3.76, width_px=6000, height_px=4000)] * 3
+    cameras = [Camera(pixel_size_um=3.8, width_px=6000, height_px=4000)] * 3
     batch = RigBatch.from_components(telescopes, cameras)
     calculator = load_registry([entry_point("good", "plugin_fakes:Good")]).get("good")
     outcome = run(calculator, batch, parse_params(calculator, None))

@@ -169,7 +169,9 @@ def test_the_comparison_is_the_same_as_comparing_the_rigs_by_id(app, client):
     seed_demo(app.state.engine)
     ours = client.get(f"/v1/clubs/{CLUB}/comparison").json()
     ids = [r["id"] for r in client.get(f"/v1/clubs/{CLUB}/rigs").json()["items"]]
-    theirs = client.post("/v1/comparisons", json={"rigs": [{"id": i} for i in ids]}).json()
+    site = client.get(f"/v1/clubs/{CLUB}").json()["default_site_id"]  # the demo club's field
+    theirs = client.post("/v1/comparisons", json={"rigs": [{"id": i} for i in ids], "site": {"id": site}}).json()
+    assert ours["site"] == theirs["site"] and ours["site"]["id"] == site
     assert [r["id"] for r in ours["rigs"]] == ids
     assert ours["results"] == theirs["results"] and ours["baseline"] == 0
     assert ours["baseline_rig_id"] == ids[0] and ours["club"] == CLUB

@@ -163,7 +163,9 @@ def test_csv_is_the_same_comparison_as_a_table(client):
     response = client.post("/v1/comparisons", json=request, headers={"Accept": "text/csv"})
     assert response.status_code == 200
     assert response.headers["content-type"].startswith("text/csv")
-    rows = list(csv.DictReader(io.StringIO(response.text)))
+    table, _, block = response.text.partition("\r\n\r\n")  # the final block: the cautions
+    assert block.startswith("# caution: light_grasp,") and "Sun" in block
+    rows = list(csv.DictReader(io.StringIO(table)))
     assert len(rows) == 2
     outputs = data["results"]["light_grasp"]["outputs"]
     for name, output in outputs.items():

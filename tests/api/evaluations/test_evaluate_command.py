@@ -36,7 +36,7 @@ REQUEST = {
     ],
     "cameras": [
         {**CAMERA, "mass_kg": 0.7, "price": {"amount": 1400, "currency": "EUR"}},
-        {"name": "small-pixel camera", "pixel_size_um": 2.4, "width_px": 3000, "height_px": 2000,
+        {"name": "small-pixel camera", "pixel_size_um": 2.5, "width_px": 3000, "height_px": 2000,
          "mass_kg": 0.4, "price": {"amount": 500, "currency": "EUR"}},
     ],
     "modifiers": [None, {**MODIFIER, "mass_kg": 0.3, "price": {"amount": 250, "currency": "EUR"}}],
