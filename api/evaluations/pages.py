@@ -20,7 +20,7 @@ from starlette.responses import FileResponse, HTMLResponse, Response
 
 from api.clubs import page as club_page
 from api.deps import Caller
-from api.evaluations import report, saved
+from api.evaluations import report, rerun, saved, sheets
 from api.evaluations.charts import svg_file
 from api.evaluations.request import MAX_FRONT_ROWS, EvaluationRequest
 from api.http import problems
@@ -54,13 +54,13 @@ def render(spec, components, result, registry, *, title: str, entries=(), standa
     """The report as HTML; ``standalone`` inlines the style (one file, nothing fetched)."""
     context = report.context(spec, components, result, registry, entries=entries)
     return templates().get_template("report.html").render(
-        title=title, candidates=report.components_summary(components),
+        title=title, candidates=sheets.components_summary(components),
         inline_css=inline_css() if standalone else None, **context, **meta,
     )
 
 
-def _entries(stored: list[saved.StoredEntry]) -> list[report.Entry]:
-    return [report.Entry(e.kind, e.index, e.id, e.status, e.changed_fields, e.name) for e in stored]
+def _entries(stored: list[saved.StoredEntry]) -> list[sheets.Entry]:
+    return [sheets.Entry(e.kind, e.index, e.id, e.status, e.changed_fields, e.name) for e in stored]
 
 
 def _problem_page(request: Request, problem: ApiProblem) -> Response:
@@ -105,7 +105,7 @@ def _now_page(request: Request, caller, item_id: int) -> str:
     with Session(state.engine) as session:
         row, owner = saved.fetch(session, item_id, caller)
         stored, current = saved.stored_equipment(session, row, caller)
-    answer, components, spec = saved.rerun(state, caller, row, stored, current)
+    answer, components, spec = rerun.rerun(state, caller, row, stored, current)
     entries = _entries(stored)
     base, page = f"/v1/evaluations/saved/{row.id}", saved.report_path(row.id)
     return render(

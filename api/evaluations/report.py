@@ -15,9 +15,7 @@ The same context serves the page of a saved evaluation (api/evaluations/pages.py
 
 from __future__ import annotations
 
-import math
-from collections.abc import Mapping, Sequence
-from dataclasses import dataclass, field
+from collections.abc import Sequence
 from typing import Any
 
 from markupsafe import Markup
@@ -25,260 +23,27 @@ from markupsafe import Markup
 from api.clubs.page import CAUTIONS
 from api.evaluations import charts
 from api.evaluations.sample import SAMPLE_SIZE, canonical, sample
-from calculators.batch import AXES
+from api.evaluations.sheets import (
+    Entry,
+    sheet_extras,
+    indices_of,
+    pick_sheet,
+    bounds_text,
+    combination_name,
+    label_of,
+    unit_of,
+)
 from calculators.evaluation_schemas import EvaluationResult, EvaluationRow, EvaluationSpec
-from plugins.compare import compare
 
 #: Most rows of ``top`` that get a sheet and a number on the chart.
 MAX_PICKS = 20
-
-#: A mount loaded above this fraction of its rated capacity gets its own caution (common practice:
-#: stay well inside the rating for imaging).
-LOAD_WARNING = 0.8
-
-# Unit suffixes of output names (pixel_scale_arcsec): dropped from the words, the unit is shown apart.
-UNIT_WORDS = {"arcsec", "arcmin", "mm", "um", "kg", "deg", "s", "min", "minutes", "nm", "n", "nm", "mm2", "cm2",
-              "m", "w", "k", "c", "px", "mag", "arcsec2", "deg2"}
-
-TELESCOPE, MOUNT = AXES.index("telescope"), AXES.index("mount")
-
-KIND_WORDS = {"telescope": "Telescope", "camera": "Camera", "modifier": "Modifier", "train": "Imaging train",
-              "mount": "Mount"}
-
-
-def _items(part) -> list:
-    """The priced things a part is: itself, or each element of a train given as a list."""
-    if part is None:
-        return []
-    return list(part) if isinstance(part, (list, tuple)) else [part]
-
-
-def _price(part):
-    """A part's price, or the sum of its elements' (None when one has none or currencies differ)."""
-    items = _items(part)
-    prices = [getattr(i, "price", None) for i in items]
-    if len(items) == 1:
-        return prices[0]
-    if not items or any(p is None for p in prices) or len({p.currency for p in prices}) > 1:
-        return None
-    return type(prices[0])(amount=sum(p.amount for p in prices), currency=prices[0].currency)
-
-
-@dataclass
-class Entry:
-    """How one stored component stands now (see api.evaluations.saved.StoredEntry)."""
-
-    kind: str
-    index: int
-    id: int
-    status: str
-    changed_fields: list[str] = field(default_factory=list)
-    name: str | None = None
-
-
-def label_of(key: str, calculators: Mapping) -> str:
-    """Words for an output key: its declared ``label`` when the calculator gives one, else its name."""
-    name, _, output = key.partition(".")
-    calculator = calculators.get(name)
-    for declared in getattr(calculator, "outputs", ()):
-        if declared.name == output and getattr(declared, "label", None):
-            return declared.label
-    parts = output.split("_")
-    if len(parts) > 1 and parts[-1] in UNIT_WORDS and parts[-2] != "per":
-        parts = parts[:-1]  # the unit is shown beside the label
-    words = " ".join(parts)
-    return words[:1].upper() + words[1:]
-
-
-def unit_of(key: str, units: Mapping[str, str], calculators: Mapping) -> str:
-    """The unit shown for an output: its own, or "× baseline" for a ratio to the baseline."""
-    if units.get(key):
-        return units[key]
-    name, _, output = key.partition(".")
-    for declared in getattr(calculators.get(name), "outputs", ()):
-        if declared.name == output and declared.relative:
-            return "× baseline"
-    return ""
-
-
-def bounds_text(bounds, unit: str) -> str:
-    unit = f" {unit}" if unit else ""
-    low, high = bounds.min, bounds.max
-    if low is not None and high is not None:
-        return f"between {charts.number_text(low)} and {charts.number_text(high)}{unit}"
-    if low is not None:
-        return f"at least {charts.number_text(low)}{unit}"
-    return f"at most {charts.number_text(high)}{unit}"
-
-
-def price_text(price) -> str:
-    return "no price given" if price is None else f"{price.amount:,.2f} {price.currency}"
-
-
-def _describe(kind: str, part) -> str:
-    """The few specs that identify a part, in canonical units."""
-    if isinstance(part, (list, tuple)):
-        return ", ".join(_describe(getattr(e, "kind", "element"), e) for e in part) or "nothing between telescope and camera"
-    if kind == "telescope":
-        return f"{part.aperture_mm:g} mm aperture, {part.focal_length_mm:g} mm focal length (f/{part.focal_length_mm / part.aperture_mm:.1f})"
-    if kind == "camera":
-        return f"{part.width_px} × {part.height_px} px at {part.pixel_size_um:g} µm"
-    if kind == "mount":
-        return f"{part.type}, rated {part.capacity_kg:g} kg" if getattr(part, "capacity_kg", None) else str(part.type)
-    factor = getattr(part, "factor", None)
-    words = str(getattr(part, "kind", kind))
-    return f"{words} {factor:g}×" if factor is not None else words
-
-
-def _name(kind: str, index: int, part) -> str:
-    if isinstance(part, (list, tuple)):
-        return " + ".join(getattr(e, "name", None) or str(getattr(e, "kind", "element")) for e in part) or f"{kind} {index + 1}"
-    return getattr(part, "name", None) or f"{kind} {index + 1}"
-
-
-def _indices(row: EvaluationRow) -> tuple[int, int, int, int]:
-    return tuple(getattr(row.indices, kind) for kind in AXES)
-
 
 def _point(row: EvaluationRow, keys: Sequence[str]) -> charts.Point | None:
     x = row.values.get(keys[0])
     y = row.values.get(keys[1]) if len(keys) > 1 else None
     if x is None or (len(keys) > 1 and y is None):
         return None
-    return charts.Point(_indices(row), x, y)
-
-
-def _parts(components, row: EvaluationRow, entries: Mapping[tuple[str, int], Entry]) -> list[dict]:
-    parts = []
-    for axis, kind in enumerate(AXES):
-        index = _indices(row)[axis]
-        part = components[axis][index]
-        if not _items(part):
-            continue
-        entry = entries.get((kind, index))
-        parts.append({
-            "kind": KIND_WORDS.get(kind, kind.capitalize()), "name": _name(kind, index, part),
-            "specs": _describe(kind, part), "price": price_text(_price(part)),
-            "owned": all(bool(getattr(i, "owned", False)) for i in _items(part)),
-            "stored_id": entry.id if entry else None, "status": entry.status if entry else None,
-        })
-    return parts
-
-
-def _purchase(components, row: EvaluationRow) -> tuple[str, str]:
-    """The price of what is not owned yet, and of the whole combination."""
-    buy, total, currencies, missing = 0.0, 0.0, set(), False
-    for axis, _kind in enumerate(AXES):
-        for item in _items(components[axis][_indices(row)[axis]]):
-            price = getattr(item, "price", None)
-            if price is None:
-                missing = True
-                continue
-            currencies.add(price.currency)
-            total += price.amount
-            if not getattr(item, "owned", False):
-                buy += price.amount
-    if len(currencies) > 1:
-        return "prices in several currencies", "prices in several currencies"
-    currency = next(iter(currencies), "")
-    note = " (some parts have no price)" if missing else ""
-    return f"{buy:,.2f} {currency}{note}".strip(), f"{total:,.2f} {currency}{note}".strip()
-
-
-def _rig(components, row: EvaluationRow, rank: int) -> dict[str, Any]:
-    rig: dict[str, Any] = {"name": f"pick {rank}"}
-    for axis, kind in enumerate(AXES):
-        part = components[axis][_indices(row)[axis]]
-        if part is not None:
-            rig[kind] = list(part) if isinstance(part, tuple) else part
-    return rig
-
-
-def _extras(components, picks: Sequence[EvaluationRow], spec: EvaluationSpec, registry) -> tuple[dict, dict]:
-    """Outputs of the sheet calculators (payload, compatibility, target_fit) for every pick."""
-    loaded = registry.calculators
-    names = [n for n in ("payload", "compatibility") if n in loaded]
-    target = getattr(spec, "target", None) or (spec.params.get("target_fit") or {}).get("target")
-    if target and "target_fit" in loaded:
-        names.append("target_fit")
-    if not picks or not names:
-        return {}, {}
-    params = {n: spec.params[n] for n in names if n in spec.params}
-    try:
-        result = compare([_rig(components, r, i) for i, r in enumerate(picks, 1)], names,
-                         params=params, registry=registry)
-    except Exception as exc:  # a report never fails for want of an extra; the sheet says why
-        return {"error": str(exc)}, {}
-    return {n: r for n, r in result.results.items()}, {n: loaded[n] for n in names}
-
-
-def _value(results, name: str, output: str, i: int):
-    result = results.get(name)
-    if result is None or result.error:
-        return None
-    values = result.outputs.get(output)
-    return None if values is None else values.values[i]
-
-
-def _sheet(rank, row, components, bounds_by_key, objectives, result, calculators, entries, extras, used) -> dict:
-    i = rank - 1
-    units = result.units
-    buy, total = _purchase(components, row)
-    # An output both constrained and optimised is one row: its direction and its bound.
-    constraints = [{
-        "label": label_of(key, calculators), "key": key, "unit": units.get(key, ""),
-        "value": charts.number_text(row.values.get(key)),
-        "bounds": bounds_text(bounds, units.get(key, "")), "met": True,
-    } for key, bounds in bounds_by_key.items() if key not in objectives]
-    objectives = [{
-        "label": label_of(key, calculators), "key": key, "unit": units.get(key, ""),
-        "value": charts.number_text(row.values.get(key)), "direction": direction,
-        "bounds": bounds_text(bounds_by_key[key], units.get(key, "")) if key in bounds_by_key else None,
-    } for key, direction in objectives.items()]
-    sheet = {"rank": rank, "indices": ",".join(map(str, _indices(row))), "score": row.score,
-             "parts": _parts(components, row, entries), "purchase": buy, "total": total,
-             "constraints": constraints, "objectives": objectives,
-             "compatibility": None, "field": None, "cautions": [], "extra_error": extras.get("error")}
-    compat = extras.get("compatibility")
-    if compat is not None:
-        sheet["compatibility"] = ([{"label": label_of(f"compatibility.{name}", calculators),
-                                    "value": _shown(values.values[i])} for name, values in compat.outputs.items()]
-                                  if not compat.error else [{"label": "Not computed", "value": compat.error}])
-    fit = extras.get("target_fit")
-    if fit is not None and not fit.error:
-        width, height = _value(extras, "target_fit", "field_width_arcmin", i), _value(extras, "target_fit", "field_height_arcmin", i)
-        fits, panels = _value(extras, "target_fit", "fits_in_field", i), _value(extras, "target_fit", "panels", i)
-        sheet["field"] = {
-            "target": _value(extras, "target_fit", "target_name", i) or "the target",
-            "size": (f"{width:.1f}′ × {height:.1f}′" if width and height else "unknown (no camera size)"),
-            "verdict": ("the object fits" if fits else f"{panels:.0f} mosaic panels" if panels else "does not fit"),
-        }
-    cautions = []
-    load = _value(extras, "payload", "capacity_fraction", i)
-    if load is not None and load > LOAD_WARNING:
-        cautions.append(f"This combination loads its mount to {load:.0%} of its rated capacity: above "
-                        f"{LOAD_WARNING:.0%} leaves little margin; the mount maker's rating governs.")
-    if components[MOUNT][_indices(row)[MOUNT]] is not None:
-        cautions.append(CAUTIONS[0])
-    telescope = components[TELESCOPE][_indices(row)[TELESCOPE]]
-    if (getattr(telescope, "mass_kg", None) or 0) >= 15 or telescope.aperture_mm >= 250:
-        cautions.append(CAUTIONS[1])
-    cautions.append(CAUTIONS[2])
-    for name, calculator in used.items():
-        if (name != "payload" or components[MOUNT][_indices(row)[MOUNT]] is not None):
-            cautions += [c for c in calculator.cautions if c not in cautions]
-    for texts in result.cautions.values():
-        cautions += [c for c in texts if c not in cautions]
-    sheet["cautions"] = cautions
-    return sheet
-
-
-def _shown(value) -> str:
-    if isinstance(value, bool):
-        return "yes" if value else "no"
-    if isinstance(value, (int, float)):
-        return charts.number_text(float(value))
-    return "—" if value is None else str(value)
+    return charts.Point(indices_of(row), x, y)
 
 
 def context(spec: EvaluationSpec, components, result: EvaluationResult, registry, *,
@@ -313,18 +78,18 @@ def context(spec: EvaluationSpec, components, result: EvaluationResult, registry
                                    baseline, join=len(keys) == 2, sampled=sampled)
     parallel = None
     if len(keys) >= 3 and result.front:
-        ranks = {_indices(r): n for n, r in enumerate(picks_rows, 1)}
+        ranks = {indices_of(r): n for n, r in enumerate(picks_rows, 1)}
         rows = result.front
         if len(rows) > charts.MAX_PARALLEL_ROWS:
             step = len(rows) / charts.MAX_PARALLEL_ROWS
             chosen = {int(j * step) for j in range(charts.MAX_PARALLEL_ROWS)}
-            rows = [r for j, r in enumerate(rows) if j in chosen or _indices(r) in ranks]
-        lines = [charts.Line(_indices(r), [r.values[k] for k in keys], ranks.get(_indices(r)))
+            rows = [r for j, r in enumerate(rows) if j in chosen or indices_of(r) in ranks]
+        lines = [charts.Line(indices_of(r), [r.values[k] for k in keys], ranks.get(indices_of(r)))
                  for r in rows if all(r.values.get(k) is not None for k in keys)]
         parallel = charts.parallel_svg(axes, lines, shown_of=len(result.front))
     by_place = {(e.kind, e.index): e for e in entries}
-    extras, used = _extras(components, picks_rows, spec, registry)
-    sheets = [_sheet(n, row, components, constraints, objectives, result, calculators, by_place, extras, used)
+    extras, used = sheet_extras(components, picks_rows, spec, registry)
+    sheets = [pick_sheet(n, row, components, constraints, objectives, result, calculators, by_place, extras, used)
               for n, row in enumerate(picks_rows, 1)]
     constraint_words = [f"{label_of(k, calculators)} ({k}) {bounds_text(b, units.get(k, ''))}"
                         for k, b in constraints.items()]
@@ -339,41 +104,13 @@ def context(spec: EvaluationSpec, components, result: EvaluationResult, registry
         "excluded": getattr(result, "excluded", None),
         "infeasible": result.evaluated - result.feasible,
         "baseline_feasible": result.baseline_feasible,
-        "baseline_indices": ",".join(map(str, _indices(result.baseline))),
+        "baseline_indices": ",".join(map(str, indices_of(result.baseline))),
         "entries": list(entries), "gone": [e for e in entries if e.status in ("gone", "retired")],
         "changed": [e for e in entries if e.status == "changed"],
         "axes": axes, "no_front": not result.front,
         "general_cautions": CAUTIONS,
         "site": getattr(result, "site", None),
     }
-
-
-def components_summary(components) -> list[dict]:
-    """Every candidate of each kind, for the page's list of what was compared."""
-    out = []
-    for axis, kind in enumerate(AXES):
-        items = []
-        for index, part in enumerate(components[axis]):
-            items.append("none" if part is None else f"{_name(kind, index, part)}: {_describe(kind, part)}, "
-                         f"{price_text(_price(part))}" + (", owned" if _items(part) and all(
-                             getattr(i, "owned", False) for i in _items(part)) else ""))
-        out.append({"kind": KIND_WORDS.get(kind, kind.capitalize()) + "s", "items": items})
-    return out
-
-
-def is_finite(value) -> bool:
-    return isinstance(value, (int, float)) and math.isfinite(value)
-
-
-def combination_name(components, indices) -> str:
-    """A combination in words: its parts' names joined with +."""
-    names = []
-    for axis, kind in enumerate(AXES):
-        index = getattr(indices, kind)
-        part = components[axis][index]
-        if part is not None:
-            names.append(_name(kind, index, part))
-    return " + ".join(names)
 
 
 def changes_view(changes, components, calculators, units) -> dict[str, Any]:

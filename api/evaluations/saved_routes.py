@@ -12,7 +12,7 @@ from starlette.responses import Response
 
 from api.clubs.routes import Format, as_csv, wants_csv
 from api.deps import Caller, ItemId, Writer
-from api.evaluations import saved
+from api.evaluations import rerun, saved
 from api.evaluations.csv_table import evaluation_csv
 from api.evaluations.request import MAX_FRONT_ROWS
 from api.evaluations.routes import CSV_RESPONSE
@@ -72,13 +72,13 @@ async def get_saved_evaluation(item_id: ItemId, request: Request, caller: Caller
     return Response(public.model_dump_json(), media_type="application/json")
 
 
-def _rerun(request: Request, caller, item_id: int) -> saved.Rerun:
+def _rerun(request: Request, caller, item_id: int) -> rerun.Rerun:
     row, _owner, entries, current = _read(request, caller, item_id)
-    return saved.rerun(request.app.state, caller, row, entries, current)[0]
+    return rerun.rerun(request.app.state, caller, row, entries, current)[0]
 
 
 @router.post(
-    "/{item_id}/rerun", response_model=saved.Rerun, operation_id="rerun_saved_evaluation",
+    "/{item_id}/rerun", response_model=rerun.Rerun, operation_id="rerun_saved_evaluation",
     summary="Compute a saved evaluation again with the equipment as it is now",
     description="Stored components are read again (the saved copy stands in for one that is gone "
     "or retired, so indices keep their meaning); the answer now comes with what changed against the "

@@ -7,8 +7,6 @@ question both ways and compares status, media type and body, byte for byte.
 from __future__ import annotations
 
 import json
-import sys
-from pathlib import Path
 
 import fastapi.routing
 import pytest
@@ -16,8 +14,7 @@ from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 from rigbench_testing import CAMERA, INLINE_RIG, TELESCOPE
 
-sys.path.insert(0, str(Path(__file__).resolve().parents[2] / "calculators"))
-from rig_strategies import rig_dicts  # noqa: E402
+from plugins.testing import rig_dicts
 
 ORDINARY = "/v1/comparisons?lane=ordinary"
 CORE = ["light_grasp", "etendue", "speed", "sampling", "payload", "cost"]

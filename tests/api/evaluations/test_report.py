@@ -17,7 +17,7 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 from test_evaluations import CAMERAS, MODIFIERS, MOUNTS, TELESCOPES, request
 
-from api.evaluations import report, sample
+from api.evaluations import report, sample, sheets
 from calculators.base import Calculator, Output
 from calculators.evaluation_schemas import InlineEvaluationRequest
 from calculators.sweep import evaluate_spec
@@ -203,4 +203,4 @@ def test_what_is_owned_is_not_in_the_price_to_buy():
 
     components = ([part(600, owned=True)], [part(1400)], [None], [[part(120), part(80, owned=True)]])
     row = EvaluationRow(indices=Indices(), ids=Ids(), values={}, score=0.0)
-    assert report._purchase(components, row) == ("1,520.00 EUR", "2,200.00 EUR")
+    assert sheets.purchase_prices(components, row) == ("1,520.00 EUR", "2,200.00 EUR")

@@ -14,7 +14,7 @@ import pytest
 from rigbench_testing import assert_problem
 from test_evaluations import CAMERAS, MODIFIERS, MOUNTS, TELESCOPES, request
 
-from api.evaluations.saved import MAX_VALUE_CHANGES
+from api.evaluations.rerun import MAX_VALUE_CHANGES
 
 
 def saved_body(**changes):
