@@ -5,7 +5,7 @@ Sign-in: the key is posted once in a form; the server checks it and keeps only t
 key's ids in Starlette's session cookie, which is signed (itsdangerous), expires
 (``RIGBENCH_SESSION_MAX_AGE_S``), is HTTP-only and SameSite=Lax, and is sent only under ``/clubs``.
 Each request checks the key again, so revoking it ends the sign-in. Every form carries a CSRF token
-kept in the session (compared in constant time). A wrong key counts against the failed-key limit; a
+kept in the session (compared in constant time). A wrong key counts against the failed-key limit (429 once used up); a
 borrow request counts against the write limits like any API write.
 """
 
@@ -125,10 +125,6 @@ async def sign_in(name: str, request: Request) -> Response:
     if not _csrf_ok(request, form.get("csrf")):
         return await run_in_threadpool(_refused, request, name, ApiProblem(403, "the form has expired; please try again"))
     limits, address = rate_limits(request), client_address(request)
-    try:
-        await limits.refuse_if_failing(address)
-    except ApiProblem as problem:
-        return await run_in_threadpool(_refused, request, name, problem)
     key = str(form.get("key") or "").strip()
 
     def check() -> Response | None:
@@ -150,7 +146,10 @@ async def sign_in(name: str, request: Request) -> Response:
     except ApiProblem as problem:
         return await run_in_threadpool(_refused, request, name, problem)
     if done is None:
-        await limits.count_failed_auth(address)
+        try:
+            await limits.count_failed_auth(address)  # 429 once this address has used up its allowance
+        except ApiProblem as problem:
+            return await run_in_threadpool(_refused, request, name, problem)
         return await run_in_threadpool(_refused, request, name, ApiProblem(401, "that key is unknown or revoked"))
     return done
 
