@@ -1,8 +1,9 @@
 """Club pages and pictures, built once per club state and served from memory after.
 
-A club's **data version** is a digest of what its page shows: the club's profile, and for each
-kind of public item of the club (count, sum of versions, largest id, latest change) plus the same
-for the other accounts' public equipment its public rigs reference. Any create, change or delete
+A club's **data version** is a digest of what its page shows: the club's profile and default site,
+and for each kind of public item of the club (count, sum of versions, largest id, latest change)
+plus the same for the other accounts' public equipment its public rigs reference (and a ten-minute
+clock, so that anything else shown is at most that stale). Any create, change or delete
 moves one of those, so the version changes exactly when the page may. The ETag of a page or a
 picture is a digest of that version, the path, the query and the Host links are built from.
 
@@ -18,6 +19,7 @@ memory stays flat however many views or distinct queries come in.
 from __future__ import annotations
 
 import hashlib
+import time
 from collections import OrderedDict
 from collections.abc import Callable
 from dataclasses import dataclass
@@ -31,9 +33,22 @@ from starlette.responses import Response
 from api.http.budget import budget_for, run_heavy
 from api.http.etags import none_match, not_modified
 from api.http.ratelimit import client_address, rate_limits
-from api.storage.models import Account, AccountKind, CameraRow, ModifierRow, MountRow, RigRow, TelescopeRow, Visibility
+from api.storage.models import (
+    Account,
+    AccountKind,
+    CameraRow,
+    ModifierRow,
+    MountRow,
+    RigRow,
+    SiteRow,
+    TelescopeRow,
+    Visibility,
+)
 
 MAX_ENTRIES = 64
+#: The version also moves every so often, so that a change it does not see (a feature that adds to
+#: the page later) is shown within this many seconds.
+STALE_AT_MOST_S = 600
 TABLES = (TelescopeRow, ModifierRow, CameraRow, MountRow, RigRow)
 
 
@@ -51,7 +66,10 @@ def club_version(engine: Engine, name: str) -> str | None:
         club = session.exec(select(Account).where(Account.name == name, Account.kind == AccountKind.club.value)).first()
         if club is None:
             return None
-        parts: list[object] = [club.model_dump()]
+        parts: list[object] = [club.model_dump(), int(time.time() // STALE_AT_MOST_S)]
+        if club.default_site_id is not None:  # the site whose conditions the comparison uses
+            site = session.get(SiteRow, club.default_site_id)
+            parts.append(None if site is None else (site.version, str(site.updated_at)))
         public = Visibility.public.value
         for table in TABLES:
             parts.append(session.exec(

@@ -146,8 +146,9 @@ async def sign_in(name: str, request: Request) -> Response:
     except ApiProblem as problem:
         return await run_in_threadpool(_refused, request, name, problem)
     if done is None:
+        # Failed keys are counted per address (429 past the limit); a valid key is never refused.
         try:
-            await limits.count_failed_auth(address)  # 429 once this address has used up its allowance
+            await limits.count_failed_auth(address)
         except ApiProblem as problem:
             return await run_in_threadpool(_refused, request, name, problem)
         return await run_in_threadpool(_refused, request, name, ApiProblem(401, "that key is unknown or revoked"))

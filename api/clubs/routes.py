@@ -9,9 +9,11 @@ header, and spreadsheets import from a URL).
 from typing import Annotated, Literal
 
 from fastapi import APIRouter, Path, Query, Request
+from sqlmodel import Session
 from starlette.responses import Response
 
 from api.clubs import queries as clubs
+from api.clubs.cache import serve_cached
 from api.clubs.csv_table import clubs_csv, equipment_csv, rigs_csv
 from api.clubs.schemas import ClubComparison, ClubEquipment, ClubList, ClubPublic
 from api.comparisons.csv_table import comparison_csv
@@ -118,7 +120,9 @@ COMPARISON_QUERY = ("baseline", "target", "format")
 @router.get(
     "/{name}/comparison", response_model=ClubComparison, operation_id="compare_club_rigs",
     summary="Every calculator over a club's public rigs",
-    description="The club's public rigs, oldest first, through every loaded calculator. `baseline` is "
+    description="The club's public rigs, oldest first (at most the server's club_page_max_rigs, 100 by "
+    "default; `rigs_total` says how many there are), through every loaded calculator. The answer "
+    "carries an ETag; send it back in If-None-Match for a 304 while the club is unchanged. `baseline` is "
     "the id of the rig the relative figures refer to (default: the oldest); `target` the deep-sky "
     "object placed in each field (OpenNGC designation or common name). The club's default site fills "
     "the calculators' site params (the answer's `site` says which values); the query parameters named "
@@ -127,10 +131,9 @@ COMPARISON_QUERY = ("baseline", "target", "format")
                               "output, the unit in each header."),
                **problems.responses(404, 422)},
 )
-def compare_club_rigs(
+async def compare_club_rigs(
     name: ClubName,
     request: Request,
-    session: SessionDep,
     settings: SettingsDep,
     registry: RegistryDep,
     baseline: Annotated[int | None, Query(ge=1, le=MAX_ID, description="Id of one of the club's public rigs.")] = None,
@@ -143,11 +146,16 @@ def compare_club_rigs(
     latitude_deg: Annotated[float | None, Query(ge=-90, le=90, description="Overrides the site's latitude.")] = None,
     elevation_m: Annotated[float | None, Query(ge=-500, le=9000, description="Overrides the site's elevation.")] = None,
 ):
-    result = clubs.comparison(
-        session, registry, clubs.find_club(session, name), baseline_id=baseline, target=target,
-        max_rigs=settings.max_rigs_per_comparison, query=dict(request.query_params),
-        known=COMPARISON_QUERY,
-    )
-    if wants_csv(request, format):
-        return as_csv(comparison_csv(result), f"{name}-comparison.csv")
-    return Response(result.model_dump_json(), media_type="application/json")
+    def build() -> Response:
+        with Session(request.app.state.engine) as session:
+            result = clubs.comparison(
+                session, registry, clubs.find_club(session, name), baseline_id=baseline, target=target,
+                max_rigs=min(settings.club_page_max_rigs, settings.max_rigs_per_comparison),
+                query=dict(request.query_params), known=COMPARISON_QUERY,
+            )
+        if wants_csv(request, format):
+            return as_csv(comparison_csv(result), f"{name}-comparison.csv")
+        return Response(result.model_dump_json(), media_type="application/json")
+
+    # Built once per club state and query (ETag, 304 on If-None-Match): api.clubs.cache.
+    return await serve_cached(request, name, build)

@@ -13,7 +13,9 @@ Requests (issue 14):
 2. **11 objectives**: the same shape with eleven objectives and fully described identical
    components (a body of about 48 KB).
 3. **hang-up**: the tied evaluation again, the client hanging up after 0.5 s; the server CPU
-   spent in the 5 s after the hang-up shows whether work goes on for nobody.
+   spent in the 5 s after the hang-up shows whether work goes on for nobody. Then an honest heavy
+   evaluation (200 × 250 × 10 distinct components, 11 objectives) without a key (its CPU budget
+   applies), and with a key allowed more, hung up after 1 s.
 4. **club page**: a club with 1,000 public rigs; ``GET /clubs/<name>`` 100 times in a row (CPU per
    view, RSS before, after and at its peak), then 6 views in parallel (RSS peak).
 
@@ -43,6 +45,7 @@ ROOT = Path(__file__).resolve().parents[2]
 HOST = "127.0.0.1"
 CLUB = "cost-bench-club"
 TICKS = os.sysconf("SC_CLK_TCK")
+KEY_CPU_S = 120
 
 
 def free_port() -> int:
@@ -89,6 +92,17 @@ ELEVEN = {**THREE, "etendue.etendue_m2_deg2": "max", "etendue.field_solid_angle_
           "etendue.pixel_etendue_m2_arcsec2": "max", "resolution.dawes_arcsec": "min",
           "resolution.rayleigh_arcsec": "min", "resolution.airy_diameter_um": "min",
           "speed.effective_focal_length_mm": "max", "speed.throughput": "max"}
+
+
+def distinct_body() -> bytes:
+    """200 different telescopes × 250 different cameras × 10 reducers (500,000 combinations), 11
+    objectives: no ties, a large front; heavy honest work rather than a trick."""
+    scopes = [{"aperture_mm": 60 + i, "focal_length_mm": (60 + i) * (4 + (i % 7) / 2)} for i in range(200)]
+    cams = [{"pixel_size_um": 2 + (j % 25) / 5, "width_px": 3000 + 40 * j, "height_px": 2000 + 20 * j}
+            for j in range(250)]
+    reducers = [None] + [{"kind": "reducer", "factor": 0.5 + m / 20} for m in range(9)]
+    body = {"telescopes": scopes, "cameras": cams, "modifiers": reducers, "objectives": ELEVEN}
+    return json.dumps(body, separators=(",", ":")).encode()
 
 
 def tied_body(objectives: dict, full: bool) -> bytes:
@@ -161,13 +175,15 @@ def one_request(server: Server, method: str, path: str, body: bytes | None = Non
     return answer.status_code, wall, cpu_s(server.pid) - before, detail
 
 
-def hang_up(server: Server, body: bytes, after_s: float = 0.5, watch_s: float = 5.0) -> tuple[float, float]:
+def hang_up(server: Server, body: bytes, key: str | None = None, after_s: float = 0.5,
+            watch_s: float = 5.0) -> tuple[float, float]:
     """CPU spent while connected, and in the ``watch_s`` after the client hung up."""
     settle(server.pid)
     before = cpu_s(server.pid)
+    auth = f"Authorization: Bearer {key}\r\n".encode() if key else b""
     with socket.create_connection((HOST, server.port)) as s:
         s.sendall(b"POST /v1/evaluations HTTP/1.1\r\nHost: 127.0.0.1\r\nContent-Type: application/json\r\n"
-                  + f"Content-Length: {len(body)}\r\n\r\n".encode() + body)
+                  + auth + f"Content-Length: {len(body)}\r\n\r\n".encode() + body)
         time.sleep(after_s)
     at_hang_up = cpu_s(server.pid)
     time.sleep(watch_s)
@@ -270,7 +286,9 @@ def main() -> None:
     with tempfile.TemporaryDirectory(prefix="rigbench-cost-") as tmp:
         folder = Path(tmp)
         key = seed_club(folder, args.rigs)
-        server = Server(folder, {})
+        # A key may use more CPU here, to show that hanging up stops the work (not the budget).
+        server = Server(folder, {"RIGBENCH_REQUEST_CPU_S_WITH_KEY": str(KEY_CPU_S),
+                                 "RIGBENCH_REQUEST_DEADLINE_S": "600"})
         try:
             print(f"cost_bounds.py: server pid {server.pid}, 1 uvicorn worker, SQLite; "
                   f"load average {os.getloadavg()[0]:.2f} (2 cores, shared machine)")
@@ -284,8 +302,15 @@ def main() -> None:
                 print(f"11 objectives ({len(eleven) / 1024:.1f} KB): {status} in {wall:.2f} s wall, "
                       f"server CPU {cpu:.2f} s  [{detail}]")
             during, after = hang_up(server, tied)
-            print(f"hang-up after 0.5 s: server CPU {during:.2f} s while connected, "
+            print(f"hang-up after 0.5 s (tied evaluation): server CPU {during:.2f} s while connected, "
                   f"{after:.2f} s in the 5 s after the client left")
+            heavy = distinct_body()
+            status, wall, cpu, detail = one_request(server, "POST", "/v1/evaluations", heavy)
+            print(f"distinct evaluation without a key ({len(heavy) / 1024:.1f} KB, 200×250×10, 11 objectives): "
+                  f"{status} in {wall:.2f} s wall, server CPU {cpu:.2f} s  [{detail}]")
+            during, after = hang_up(server, heavy, key=key, after_s=1.0)
+            print(f"hang-up after 1 s (distinct evaluation, a key allowed {KEY_CPU_S} CPU-s): server CPU "
+                  f"{during:.2f} s while connected, {after:.2f} s in the 5 s after the client left")
             add_rigs(server, key, args.rigs)
             club = club_views(server, args.views, args.parallel)
             print(f"club page, {args.rigs} public rigs: first view {club['first_status']}, "

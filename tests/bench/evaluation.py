@@ -233,7 +233,7 @@ def http_timing(components, constraints, objectives) -> HttpTiming:
         env = {**os.environ, "RIGBENCH_DATA_DIR": data}
         env.pop("RIGBENCH_DATABASE_URL", None)
         server = subprocess.Popen(
-            [sys.executable, "-m", "api.cli", "serve", "--port", str(port), "--log-level", "warning"],
+            [sys.executable, "-m", "api.cli", "serve", "--workers", "1", "--port", str(port), "--log-level", "warning"],
             env=env, stdout=subprocess.DEVNULL, stderr=subprocess.PIPE, text=True,
             cwd=Path(__file__).resolve().parents[2],
         )

@@ -85,3 +85,13 @@ def test_pages_built_anew_count_against_the_anonymous_compute_limit(settings, cl
         assert client.get("/clubs/lakeside-astro", params={"embed": "0"}).status_code == 200  # cached
         assert client.get("/clubs/lakeside-astro", params={"embed": "9"},
                           headers={"Accept": "application/json"}).status_code == 429
+
+
+def test_the_json_comparison_is_cached_too_and_revalidates(client, club):
+    add_rig(client, club, "first rig")
+    first = client.get("/v1/clubs/lakeside-astro/comparison")
+    assert first.status_code == 200 and first.headers["etag"]
+    as_csv = client.get("/v1/clubs/lakeside-astro/comparison", params={"format": "csv"})
+    assert as_csv.headers["etag"] != first.headers["etag"]  # another answer, another tag
+    again = client.get("/v1/clubs/lakeside-astro/comparison", headers={"If-None-Match": first.headers["etag"]})
+    assert again.status_code == 304
