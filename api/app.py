@@ -19,6 +19,7 @@ from fastapi.openapi.utils import get_openapi
 from fastapi_offline import FastAPIOffline
 from starlette.concurrency import run_in_threadpool
 
+from api import field_descriptions
 from api import tuning
 from api.accounts import routes as accounts
 from api.clubs import page as club_page
@@ -155,6 +156,7 @@ def openapi_document(app: FastAPI) -> dict[str, Any]:
                         problems.MEDIA_TYPE: {"schema": {"$ref": "#/components/schemas/Problem"}}
                     }
     declare_key_problems(document)
+    field_descriptions.fill(document)
     # FastAPI's default validation-error shapes are replaced by Problem everywhere.
     for unused in ("HTTPValidationError", "ValidationError"):
         schemas.pop(unused, None)

@@ -240,7 +240,8 @@ def availability_text(item: Any) -> str:
     if item.availability.value == "on loan":
         who = f" ({item.borrower})" if getattr(item, "borrower", None) else ""
         late = ", overdue" if getattr(item, "overdue", None) else ""
-        return f"On loan until {item.due.isoformat()}{who}{late}"
+        # Non-breaking hyphens keep the date on one line in a narrow column.
+        return f"On loan until {item.due.isoformat().replace('-', chr(0x2011))}{who}{late}"
     return item.availability.value.capitalize()
 
 
