@@ -19,6 +19,7 @@ from fastapi.openapi.utils import get_openapi
 from fastapi_offline import FastAPIOffline
 from starlette.concurrency import run_in_threadpool
 
+from api import field_descriptions
 from api import tuning
 from api.accounts import routes as accounts
 from api.clubs import page as club_page
@@ -93,6 +94,9 @@ def create_app(settings: Settings | None = None) -> FastAPI:
         lifespan=lifespan,
         license_info={"name": "MIT", "identifier": "MIT"},
         swagger_ui_parameters={"validatorUrl": None},  # no call to an outside validator
+        # One schema per model for requests and answers alike: separate "-Input"/"-Output" variants
+        # share a title, so client generators clash on them and drop the rig answers.
+        separate_input_output_schemas=False,
     )
     app.state.settings = settings
     app.state.engine = db.make_engine(settings.database_url)
@@ -139,7 +143,7 @@ def openapi_document(app: FastAPI) -> dict[str, Any]:
         return app.openapi_schema
     document = get_openapi(
         title=app.title, version=app.version, description=app.description, routes=app.routes,
-        license_info=app.license_info,
+        license_info=app.license_info, separate_input_output_schemas=app.separate_input_output_schemas,
     )
     schemas = document.setdefault("components", {}).setdefault("schemas", {})
     problem = problems.Problem.model_json_schema(ref_template="#/components/schemas/{model}")
@@ -153,6 +157,7 @@ def openapi_document(app: FastAPI) -> dict[str, Any]:
                         problems.MEDIA_TYPE: {"schema": {"$ref": "#/components/schemas/Problem"}}
                     }
     declare_key_problems(document)
+    field_descriptions.fill(document)
     # FastAPI's default validation-error shapes are replaced by Problem everywhere.
     for unused in ("HTTPValidationError", "ValidationError"):
         schemas.pop(unused, None)

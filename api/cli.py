@@ -63,6 +63,13 @@ def run_serve(args: argparse.Namespace, settings: Settings) -> int:
 
         uvicorn.run(create_app(settings), **options)
     else:
+        if not settings.session_secret:
+            # One signing key for every worker, or a members' page sign-in made on one worker would
+            # not be recognised by the next (api.clubs.members_page). Set it yourself to outlive restarts.
+            import os
+            import secrets
+
+            os.environ["RIGBENCH_SESSION_SECRET"] = secrets.token_urlsafe(32)
         # Each worker is a fresh process that builds its own app from the same RIGBENCH_* settings;
         # uvicorn's supervisor shares the listening socket and restarts a worker that dies.
         uvicorn.run("api.app:create_app", factory=True, workers=workers, **options)

@@ -140,8 +140,8 @@ class Settings(BaseSettings):
     )
     session_secret: str = Field(
         default="",
-        description="Key that signs the members' page session cookies; empty: a random one per process "
-        "(sign-ins then last until a restart and do not carry between server processes).",
+        description="Key that signs the members' page session cookies; empty: a random one at each start "
+        "(shared by the workers of one `rigbench serve`; sign-ins last until a restart).",
     )
     session_max_age_s: int = Field(
         default=8 * 3600, gt=0, le=30 * 24 * 3600,

@@ -138,6 +138,11 @@ class EvaluationRow(BaseModel):
     score: float | None = Field(
         description="Ranking score (lower is better; see `top`); null for an infeasible row."
     )
+    cautions: list[str] = Field(
+        default_factory=list,
+        description="Hazards of this combination in particular, in words: a payload over the mount's "
+        "rating, an item heavier than a safe single lift. Show them with the row.",
+    )
 
 
 class EvaluationResult(BaseModel):

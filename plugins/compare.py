@@ -7,6 +7,7 @@ from typing import Any
 
 from calculators.batch import RigBatch
 from calculators.errors import RigbenchError
+from calculators.rig_cautions import rig_cautions
 from calculators.schemas import Rig
 from calculators.site import Site, fill_params
 from plugins.null_reasons import Missing, explain
@@ -93,7 +94,8 @@ def compare(
     # One validation of the whole tree (in pydantic's compiled core) instead of one model per
     # output: for a few rigs, building some forty small models cost more than their arithmetic.
     return Comparison.model_validate({
-        "rigs": [{"id": i, "name": m.name} for i, m in zip(ids, models)],
+        "rigs": [{"id": i, "name": m.name, "cautions": c}
+                 for i, m, c in zip(ids, models, rig_cautions(batch))],
         "baseline": baseline,
         "results": results,
         "site": used,

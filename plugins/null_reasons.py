@@ -43,7 +43,11 @@ COLUMN_FIELDS = {
     "camera_mass_kg": "camera.mass_kg", "camera_price": "camera.price",
     "capacity_kg": "mount.capacity_kg", "mount_mass_kg": "mount.mass_kg", "mount_price": "mount.price",
     "accessories_price": "accessories.price", "payload_arm_mm": "geometry.payload_arm_mm",
-    "counterweight_kg": "geometry.counterweight_kg",
+    "counterweight_kg": "geometry.counterweight_kg", "train_mass_kg": "train.<element>.mass_kg",
+    "train_price": "train.<element>.price", "flange_to_sensor_mm": "camera.flange_to_sensor_mm",
+    "eyepiece_focal_length_mm": "train.<eyepiece>.focal_length_mm",
+    "eyepiece_apparent_field_deg": "train.<eyepiece>.apparent_field_deg",
+    "eyepiece_field_stop_mm": "train.<eyepiece>.field_stop_mm",
 }
 
 #: A camera always states its pixel pitch, so a missing pitch means the rig has no camera.
@@ -83,6 +87,8 @@ def columns_read(calculator: Calculator, batch: RigBatch, params: Any) -> frozen
     recording = _Recording(batch.columns)
     watched = copy.copy(batch)
     object.__setattr__(watched, "columns", recording)
+    if hasattr(batch, "derived"):  # cached helpers would skip the reads we want to see
+        object.__setattr__(watched, "derived", {})
     try:
         with np.errstate(all="ignore"):
             calculator.compute(watched, params)

@@ -39,7 +39,12 @@ class CalculatorResult(BaseModel):
 
 class RigRef(BaseModel):
     id: int | None = Field(default=None, description="Stored rig id, when the rig was given by id.")
-    name: str
+    name: str = Field(description="The rig's name.")
+    cautions: list[str] = Field(
+        default_factory=list,
+        description="Hazards of this rig in particular, in words: a payload over the mount's rating, an "
+        "item heavier than a safe single lift (see calculators.rig_cautions). Show them prominently.",
+    )
 
 
 class SkippedRig(BaseModel):

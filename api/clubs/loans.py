@@ -104,8 +104,8 @@ def _commit_loan(session: Session, item: ItemRef) -> None:
         raise overlap_problem(item) from None
 
 
-def _log(session: Session, loan: LoanRow, action: str, actor: Account, changed: dict) -> None:
-    history.record(session, kind="loans", item_id=loan.id, owner_id=loan.club_id, version=loan.version,
+def _log(session: Session, loan: LoanRow, action: str, actor: Account, changed: dict, version: int = 1) -> None:
+    history.record(session, kind="loans", item_id=loan.id, owner_id=loan.club_id, version=version,
                    action=action, actor=actor, changed=changed)
 
 
@@ -153,15 +153,17 @@ def find_loan(session: Session, club: Account, loan_id: int) -> LoanRow:
     return loan
 
 
-def _move(session: Session, loan: LoanRow, expected: str, values: dict) -> None:
-    """Change a loan's status only if it still is ``expected`` (a version check in the UPDATE)."""
+def _move(session: Session, loan: LoanRow, expected: str, values: dict) -> int:
+    """Change a loan's status only if it still is ``expected`` (a version check in the UPDATE); the new version."""
+    version = loan.version  # read first: the ORM brings the object up to date with what the UPDATE sets
     result = session.execute(
-        update(LoanRow).where(LoanRow.id == loan.id, LoanRow.version == loan.version, LoanRow.status == expected)
+        update(LoanRow).where(LoanRow.id == loan.id, LoanRow.version == version, LoanRow.status == expected)
         .values(**values, version=LoanRow.version + 1, updated_at=utcnow())
     )
     if result.rowcount != 1:
         session.rollback()
         raise ApiProblem(409, f"loan {loan.id} was changed by someone else a moment ago; fetch it again")
+    return version + 1
 
 
 def decide(session: Session, loan: LoanRow, accept: bool, condition: str, actor: Account) -> LoanRow:
@@ -174,9 +176,9 @@ def decide(session: Session, loan: LoanRow, accept: bool, condition: str, actor:
         club_item(session, club, item)
         _check_free(session, item, loan.start, loan.due, skip=loan.id)
     status = LoanStatus.out.value if accept else LoanStatus.declined.value
-    _move(session, loan, LoanStatus.requested.value, {"status": status, "condition_out": condition})
-    loan.version += 1
-    _log(session, loan, "accept" if accept else "decline", actor, {"status": {"from": "requested", "to": status}})
+    version = _move(session, loan, LoanStatus.requested.value, {"status": status, "condition_out": condition})
+    _log(session, loan, "accept" if accept else "decline", actor, {"status": {"from": "requested", "to": status}},
+         version)
     _commit_loan(session, item)
     session.refresh(loan)
     return loan
@@ -192,10 +194,10 @@ def give_back(session: Session, loan: LoanRow, returned_on: date | None, conditi
     # The loan now holds the item up to the return day, never past the due date, so an early return
     # frees the item and a late one cannot run into the next booking.
     until = min(returned_on, loan.due)
-    _move(session, loan, LoanStatus.out.value, {"status": LoanStatus.returned.value, "returned_on": returned_on,
+    version = _move(session, loan, LoanStatus.out.value, {"status": LoanStatus.returned.value, "returned_on": returned_on,
                                                 "until": until, "condition_in": condition})
-    loan.version += 1
-    _log(session, loan, "return", actor, {"status": {"from": "out", "to": "returned"}, "returned_on": str(returned_on)})
+    _log(session, loan, "return", actor, {"status": {"from": "out", "to": "returned"}, "returned_on": str(returned_on)},
+         version)
     session.commit()
     session.refresh(loan)
     return loan

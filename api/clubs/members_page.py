@@ -5,7 +5,7 @@ Sign-in: the key is posted once in a form; the server checks it and keeps only t
 key's ids in Starlette's session cookie, which is signed (itsdangerous), expires
 (``RIGBENCH_SESSION_MAX_AGE_S``), is HTTP-only and SameSite=Lax, and is sent only under ``/clubs``.
 Each request checks the key again, so revoking it ends the sign-in. Every form carries a CSRF token
-kept in the session (compared in constant time). A wrong key counts against the failed-key limit; a
+kept in the session (compared in constant time). A wrong key counts against the failed-key limit (429 once used up); a
 borrow request counts against the write limits like any API write.
 """
 

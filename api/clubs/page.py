@@ -43,6 +43,15 @@ PAGE_POLICY = (
 SVG_POLICY = "default-src 'none'"
 
 # The page's own cautions; the calculators' cautions follow the comparison.
+#: Mains, batteries and cables at a pier or in an observatory (also in README, "Cautions").
+ELECTRICAL_CAUTION = (
+    "Electricity outdoors: mains power at a pier or in an observatory needs residual-current (RCD/GFCI) "
+    "protection, outdoor-rated sockets, leads and power supplies kept off the wet ground, and an "
+    "installation to the local electrical code by a licensed electrician. Charge batteries with the "
+    "charger made for them, away from anything that burns and never unattended, and do not use a "
+    "swollen or damaged one: they can catch fire. Tape down or cover cables, which trip people in the dark."
+)
+
 CAUTIONS = (
     "Heavy payloads and counterweights can crush hands and feet and topple a mount. Stay within the "
     "mount maker's rated capacity, balance with the counterweights secured and the shaft's safety stop "
@@ -52,6 +61,7 @@ CAUTIONS = (
     "professional, not a figure from this page.",
     SUN_CAUTION + " Look at the Sun only through a filter made for it, fitted securely over the front "
     "of the instrument, and cap or remove the finder.",
+    ELECTRICAL_CAUTION,
 )
 
 #: How the page names a site's values (field -> label, unit).
@@ -145,6 +155,7 @@ def _club_page(name: str, request: Request, baseline: str | None, target: str, e
         fields=Markup(club_view.fields_picture(result) or ""), bars=Markup(club_view.bars_picture(result) or ""),
         equipment=club_view.equipment_tables(equipment), complete=equipment.complete,
         rigs=club_view.rigs_table(rigs), cautions=CAUTIONS, calculator_cautions=club_view.cautions(result),
+        rig_cautions=club_view.rig_cautions(result),
         credit=CREDIT, query=query, site_fields=SITE_FIELDS, api=f"/v1/clubs/{club.name}",
     )
 

@@ -68,6 +68,7 @@ class Row:
     name: str
     baseline: bool
     cells: list[Cell]
+    cautions: list[str] = field(default_factory=list)
 
 
 @dataclass
@@ -95,7 +96,7 @@ def comparison_table(comparison: ClubComparison) -> Table:
         for c in columns:
             value = comparison.results[c.calculator].outputs[c.output].values[i]
             cells.append(Cell(number_text(value), data_value(value), f"{c.calculator}.{c.output}"))
-        rows.append(Row(rig.id, rig.name, i == comparison.baseline, cells))
+        rows.append(Row(rig.id, rig.name, i == comparison.baseline, cells, list(rig.cautions)))
     notes = [f"{name}: {result.error}" for name, result in comparison.results.items() if result.error]
     return Table(headers, rows, notes)
 
@@ -135,6 +136,11 @@ def all_figures(comparison: ClubComparison, counts: Collection[str] = ()) -> lis
 def counts(registry: Any) -> set[str]:
     """The outputs (``"<calculator>.<output>"``) the loaded calculators declare as counts."""
     return {f"{name}.{o.name}" for name, calc in registry.calculators.items() for o in calc.outputs if o.integer}
+
+
+def rig_cautions(comparison: ClubComparison) -> list[tuple[str, str]]:
+    """Each rig's own cautions (an overloaded mount, a heavy lift) as (rig name, text)."""
+    return [(rig.name, text) for rig in comparison.rigs for text in rig.cautions]
 
 
 def cautions(comparison: ClubComparison) -> list[str]:
@@ -236,7 +242,8 @@ def availability_text(item: Any) -> str:
     if item.availability.value == "on loan":
         who = f" ({item.borrower})" if getattr(item, "borrower", None) else ""
         late = ", overdue" if getattr(item, "overdue", None) else ""
-        return f"On loan until {item.due.isoformat()}{who}{late}"
+        # Non-breaking hyphens keep the date on one line in a narrow column.
+        return f"On loan until {item.due.isoformat().replace('-', chr(0x2011))}{who}{late}"
     return item.availability.value.capitalize()
 
 

@@ -14,10 +14,10 @@ field), 1 the server could not be reached or failed.
 from __future__ import annotations
 
 import argparse
+import io
 import json
 import sys
-import time
-from collections.abc import Mapping, Sequence
+from collections.abc import Mapping
 from pathlib import Path
 from typing import Any, TextIO
 
@@ -154,47 +154,69 @@ def _local(body: dict[str, Any], settings: Settings, chunk_rows: int | None, *,
     if chunk_rows < 1:
         raise Refused(f"--chunk-rows: must be at least 1, got {chunk_rows}")
     registry = load_registry(disabled=settings.disabled_plugins)
+    bar = ProgressBar(sys.stderr) if show_progress else None
     try:
         result = evaluate_spec(
             spec.telescopes, spec.cameras, spec.trains, spec.mounts, spec,
             calculators=registry.calculators, max_combinations=settings.max_combinations,
-            chunk_rows=chunk_rows, progress=ProgressBar(sys.stderr) if show_progress else None,
-            max_front_rows=MAX_FRONT_ROWS,
+            chunk_rows=chunk_rows, progress=bar, max_front_rows=MAX_FRONT_ROWS,
         )
     except EvaluationError as exc:
         where = field_path(exc.loc) if exc.loc else "request"
         raise Refused(f"{where}: {exc}") from None
+    finally:
+        if bar is not None:
+            bar.close()
     return result.model_dump(mode="json")
 
 
 class ProgressBar:
-    """``progress(done, total)`` for the sweep: a bar on ``stream``, redrawn in place on a terminal,
-    one line per step elsewhere. Silent for a sweep done in one step (nothing to wait for)."""
+    """``progress(done, total)`` for the sweep: a ``rich`` progress bar on ``stream``, redrawn in place
+    on a terminal, written once when done elsewhere. Silent for a sweep done in one step (nothing to
+    wait for)."""
 
     def __init__(self, stream: TextIO, width: int = 30):
-        self.stream = stream
-        self.width = width
-        self.start = time.perf_counter()
-        self.tty = bool(getattr(stream, "isatty", lambda: False)())
+        from rich.console import Console
+        from rich.progress import BarColumn, MofNCompleteColumn, Progress, TextColumn, TimeElapsedColumn
+
+        self.progress = Progress(
+            TextColumn("sweeping"), BarColumn(bar_width=width), MofNCompleteColumn(), TextColumn("steps"),
+            TimeElapsedColumn(), console=Console(file=stream, highlight=False), auto_refresh=False,
+        )
+        self.task = None
 
     def __call__(self, done: int, total: int) -> None:
         if total <= 1:
             return
-        filled = round(self.width * done / total)
-        text = (f"sweeping [{'#' * filled}{'.' * (self.width - filled)}] {done}/{total} steps "
-                f"{time.perf_counter() - self.start:.1f} s")
-        if self.tty:
-            self.stream.write("\r" + text + ("\n" if done >= total else ""))
-        else:
-            self.stream.write(text + "\n")
-        self.stream.flush()
+        if self.task is None:
+            self.task = self.progress.add_task("sweep", total=total)
+            self.progress.start()
+        self.progress.update(self.task, completed=done, total=total)
+        self.progress.refresh()
+        if done >= total:
+            self.progress.stop()
+
+    def close(self) -> None:
+        """Leave the terminal tidy when the sweep stops early (a refusal half-way)."""
+        if self.task is not None and not self.progress.finished:
+            self.progress.stop()
 
 
 # --- the table ------------------------------------------------------------------------------------
 
 def front_table(answer: Mapping[str, Any], body: Mapping[str, Any], *, max_rows: int = 50) -> str:
-    """The front as a plain-text table, components named as in the request, then a short summary."""
+    """The front as a ``rich`` table, figures headed by their labels and units as the club page shows
+    them (api.display), components named as in the request; then each row's own cautions and a short
+    summary."""
+    from rich import box
+    from rich.console import Console
+    from rich.table import Table
+    from rich.text import Text
+
+    from api.display import header, number_text, unit_text
+
     front, keys = answer["front"], list(answer["units"])
+    labels = answer.get("labels") or {}
     lines = [
         f"{answer['evaluated']:,} combinations, {answer['feasible']:,} feasible, "
         f"{len(front):,} on the Pareto front"
@@ -202,35 +224,36 @@ def front_table(answer: Mapping[str, Any], body: Mapping[str, Any], *, max_rows:
     if not front:
         lines.append("No combination meets every constraint.")
     else:
-        headers = ["#", *KINDS, *(_header(k, answer["units"][k]) for k in keys), "score"]
-        rows = [
-            [str(n), *(_label(body, kind, row) for kind in KINDS),
-             *(_number(row["values"].get(k)) for k in keys), _number(row["score"])]
-            for n, row in enumerate(front[:max(0, max_rows)], 1)
-        ]
-        numeric = {0, *range(1 + len(KINDS), len(headers))}
-        widths = [max(len(h), *(len(r[i]) for r in rows)) if rows else len(h)
-                  for i, h in enumerate(headers)]
-
-        def line(cells: Sequence[str]) -> str:
-            return "  ".join(c.rjust(w) if i in numeric else c.ljust(w)
-                             for i, (c, w) in enumerate(zip(cells, widths))).rstrip()
-
-        lines += ["", line(headers), line(["-" * w for w in widths]), *map(line, rows)]
-        if len(front) > len(rows):
-            lines.append(f"… and {len(front) - len(rows):,} more on the front (--rows N shows more, "
+        shown = front[:max(0, max_rows)]
+        table = Table(box=box.SIMPLE_HEAD, show_edge=False, pad_edge=False)
+        # Text, not markup: "[arcsec]" and names people type are shown as they are.
+        table.add_column("#", justify="right")
+        for kind in KINDS:
+            table.add_column(kind)
+        for key in keys:
+            table.add_column(Text(header(labels.get(key, key), unit_text(answer["units"][key]))), justify="right")
+        table.add_column("score", justify="right")
+        for n, row in enumerate(shown, 1):
+            cells = [str(n), *(_label(body, kind, row) for kind in KINDS),
+                     *(number_text(row["values"].get(k)) for k in keys), number_text(row["score"])]
+            table.add_row(*map(Text, cells))
+        buffer = io.StringIO()
+        Console(file=buffer, width=400, color_system=None, highlight=False).print(table)
+        lines += ["", *(line.rstrip() for line in buffer.getvalue().splitlines())]
+        if len(front) > len(shown):
+            lines.append(f"… and {len(front) - len(shown):,} more on the front (--rows N shows more, "
                          "--json prints the whole answer)")
+        flagged = [(n, text) for n, row in enumerate(shown, 1) for text in row.get("cautions") or ()]
+        if flagged:
+            lines += ["", "CAUTION, for these rows in particular:"]
+            lines += [f"  #{n}: {text}" for n, text in flagged]
         best = answer["top"][0] if answer["top"] else None
         if best is not None:
             lines += ["", "Best by score (lower is better): " + ", ".join(_label(body, kind, best) for kind in KINDS)
-                      + f" (score {_number(best['score'])})"]
+                      + f" (score {number_text(best['score'])})"]
     for calculator, cautions in answer.get("cautions", {}).items():
         lines += [f"Caution ({calculator}): {text}" for text in cautions]
     return "\n".join(lines) + "\n"
-
-
-def _header(key: str, unit: str) -> str:
-    return f"{key} [{unit}]" if unit else key
 
 
 def _label(body: Mapping[str, Any], kind: str, row: Mapping[str, Any]) -> str:
@@ -254,7 +277,3 @@ def _label(body: Mapping[str, Any], kind: str, row: Mapping[str, Any]) -> str:
     if len(text) > LABEL_WIDTH:
         text = text[:LABEL_WIDTH - 1] + "…"
     return text
-
-
-def _number(value: float | None) -> str:
-    return "—" if value is None else f"{value:.6g}"

@@ -210,7 +210,7 @@ def pick_sheet(rank, row, components, bounds_by_key, objectives, result, calcula
         "bounds": bounds_text(bounds, units.get(key, "")), "met": True,
     } for key, bounds in bounds_by_key.items() if key not in objectives]
     objectives = [{
-        "label": label_of(key, calculators), "key": key, "unit": units.get(key, ""),
+        "label": label_of(key, calculators), "key": key, "unit": unit_of(key, units, calculators),
         "value": charts.number_text(row.values.get(key)), "direction": direction,
         "bounds": bounds_text(bounds_by_key[key], units.get(key, "")) if key in bounds_by_key else None,
     } for key, direction in objectives.items()]

@@ -245,6 +245,10 @@ class IntegrationTime(Calculator):
             snr_sub = signal * t / np.sqrt((signal + sky + dark) * t + np.square(read))
             allowed = (1.0 + params.read_noise_penalty) ** 2 - 1.0
             sky_limited = np.square(read) / (allowed * (sky + dark))
+        if not isinstance(batch["pixel_size_um"], float):
+            # No camera (a visual rig): nothing reaches a sensor, so the line figures are null too.
+            camera = np.where(np.isnan(batch["pixel_size_um"]), np.nan, 1.0)
+            passed, fraction = passed * camera, fraction * camera
         return {
             "object_rate_e_s": signal,
             "sky_rate_e_s": sky,

@@ -159,7 +159,8 @@ class Sampling(Calculator):
             "field_height_arcmin": full_angle_arcmin(height_mm, twice_f),
             "field_diagonal_arcmin": full_angle_arcmin(diagonal_mm, twice_f),
             "pixels_per_fwhm": ppf,
-            "sampling_verdict": VERDICTS[code],
+            # No camera (a visual rig): no verdict ("" and the figures above null, with the reason).
+            "sampling_verdict": np.where(np.isnan(ppf), "", VERDICTS[code]),
             "suggested_binning": binning.astype(np.int16),
             "colour_pixel_scale_arcsec": colour,
             "colour_pixels_per_fwhm": params.seeing_fwhm_arcsec / colour,

@@ -22,7 +22,8 @@ from calculators.evaluation_schemas import (
 )
 from calculators.pareto import FrontLimitReached
 from calculators.schemas import Camera, Mount, Telescope
-from calculators.sweep.chunks import guarded, row_values
+from calculators.rig_cautions import rig_cautions
+from calculators.sweep.chunks import guarded, row_batch, row_values
 from calculators.sweep.errors import EvaluationError, FrontTooLarge, TooManyCombinations
 from calculators.sweep.passes import run_passes
 from calculators.sweep.plan import baseline_indices, plan_calculators, stored_ids
@@ -122,6 +123,7 @@ def evaluate(
     base_flat = int(np.ravel_multi_index(base, sizes))
     rows_flat = np.unique(np.concatenate(([base_flat], front.positions, top.positions)))
     values = row_values(batch, plans, rows_flat, sizes, base_flat)
+    row_cautions = rig_cautions(row_batch(batch, rows_flat, sizes, base_flat))
     keys = list(dict.fromkeys([*bounds, *directions]))
     # Read into plain Python lists once: the front can hold thousands of rows, and per-row numpy
     # scalar access costs more than building the row.
@@ -137,6 +139,7 @@ def evaluate(
                 indices=Indices.model_construct(**index),
                 ids=Ids.model_construct(**{kind: id_lists[kind][i] for kind, i in index.items()}),
                 values={key: value_lists[key][at] for key in keys},
+                cautions=row_cautions[at],
                 score=score,
             ))
         return out

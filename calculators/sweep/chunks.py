@@ -82,14 +82,19 @@ def chunk_of(batch: RigBatch, start: int, stop: int) -> tuple[RigBatch, int]:
     return RigBatch(columns=columns, baseline=baseline), 0 if inside else 1
 
 
-def row_values(batch, plans, rows_flat, sizes, base_flat) -> dict[str, np.ndarray]:
-    """Outputs for a few combinations, as a comparison of those rigs computes them: one row each."""
+def row_batch(batch, rows_flat, sizes, base_flat) -> RigBatch:
+    """A few combinations of a sweep batch as a comparison batch: one row each."""
     index = np.unravel_index(rows_flat, sizes)
     columns = {}
     for name, column in batch.columns.items():
         column = np.asarray(column)
         picked = column[tuple(ix if n > 1 else 0 for ix, n in zip(index, column.shape))]
         columns[name] = np.broadcast_to(picked, rows_flat.shape)
-    rows = RigBatch(columns=columns, baseline=(int(np.searchsorted(rows_flat, base_flat)),))
+    return RigBatch(columns=columns, baseline=(int(np.searchsorted(rows_flat, base_flat)),))
+
+
+def row_values(batch, plans, rows_flat, sizes, base_flat) -> dict[str, np.ndarray]:
+    """Outputs for a few combinations, as a comparison of those rigs computes them: one row each."""
+    rows = row_batch(batch, rows_flat, sizes, base_flat)
     values = compute(plans, rows)
     return {key: np.broadcast_to(v, rows.shape) for key, v in values.items()}

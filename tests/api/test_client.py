@@ -19,7 +19,7 @@ def test_create_read_update_compare_delete(client, alice):
     assert stale.value.status == 412
     rig = rb.create("rigs", {"name": "r", "telescope": {"id": scope["id"]}, "camera": CAMERA})
     comparison = rb.compare([{"id": rig["id"]}], calculators=["light_grasp"])
-    assert comparison["rigs"] == [{"id": rig["id"], "name": "r"}]
+    assert comparison["rigs"] == [{"id": rig["id"], "name": "r", "cautions": []}]
     assert rb.compare_csv([{"id": rig["id"]}], calculators=["light_grasp"]).startswith("rig_id,rig,baseline,")
     assert [c["name"] for c in rb.calculators()] == list(client.app.state.registry.calculators)
     assert rb.list("rigs", owner="alice")["total"] == 1

@@ -233,7 +233,10 @@ def club_views(server: Server, views: int, parallel: int) -> dict:
     path = f"/clubs/{CLUB}"
     out: dict = {}
     settle(server.pid)
+    start_cpu = cpu_s(server.pid)
     first = httpx.get(server.url + path, timeout=600)
+    settle(server.pid)
+    out["first_cpu"] = cpu_s(server.pid) - start_cpu
     out["first_status"] = first.status_code
     out["page_kib"] = len(first.content) / 1024
     out["rigs_shown"] = first.text.count("<tr") if first.status_code == 200 else 0
@@ -314,7 +317,7 @@ def main() -> None:
             add_rigs(server, key, args.rigs)
             club = club_views(server, args.views, args.parallel)
             print(f"club page, {args.rigs} public rigs: first view {club['first_status']}, "
-                  f"{club['page_kib']:.0f} KiB, {club['rigs_shown']} table rows")
+                  f"{club['page_kib']:.0f} KiB, {club['rigs_shown']} table rows, server CPU {club['first_cpu']:.2f} s")
             print(f"  {args.views} views in a row: server CPU {club['cpu_per_view']:.3f} s per view, "
                   f"statuses {club['statuses']}; RSS {club['rss_before']:.0f} -> {club['rss_after']:.0f} MiB")
             if "revalidate" in club:

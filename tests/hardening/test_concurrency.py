@@ -124,8 +124,9 @@ def test_no_update_is_lost_with_two_servers_sharing_one_postgres(tmp_path):
 # --- rules that tie rigs to equipment, raced ----------------------------------------------------
 # Two accounts act at the same moment, each request alone allowed, both together breaking a rule.
 # A trial fires the two requests from two threads behind a barrier; 50 trials per backend. The
-# rules hold when never both succeed, no public rig shows a private value to an anonymous reader,
-# and every stored rig can still be read and is possible (effective focal ratio >= 0.5).
+# rules hold when no public rig shows a private value to an anonymous reader (a rig of another
+# account may keep a copy of what was public), the focal-ratio changes never both succeed, and every
+# stored rig can still be read and is possible (effective focal ratio >= 0.5).
 
 TRIALS = 50
 SECRET = "secret-name"
@@ -221,7 +222,9 @@ def race_focal_ratio(urls: list[str], keys: dict[str, str], stored_modifier: boo
 def run_races(urls: list[str], keys: dict[str, str]) -> None:
     privacy = race_privacy(urls, keys)
     print(f"privacy race: {privacy}")
-    assert privacy["both"] == 0 and privacy["private values shown"] == 0
+    # Both may succeed: another account's rig then keeps a copy of the spec as it was while public
+    # (api.equipment.copies). What must never happen is a private value on a public rig.
+    assert privacy["private values shown"] == 0
     focal = race_focal_ratio(urls, keys, stored_modifier=False)
     print(f"focal-ratio race: {focal}")
     assert focal["both"] == 0 and focal["impossible rigs"] == 0

@@ -103,6 +103,9 @@ def test_a_return_records_the_condition_and_frees_the_item(client, people):
     # Back early: the days after the return are free again.
     assert client.post(f"/v1/clubs/{CLUB}/loans", json=loan_body(scope, start="2026-12-05", due="2026-12-07"),
                        headers=people.officer.headers).status_code == 201
+    assert back.json()["version"] == 2
+    history = client.get(f"/v1/clubs/{CLUB}/loans/{loan['id']}/history", headers=people.officer.headers).json()
+    assert [(h["action"], h["actor"], h["version"]) for h in history["items"]] == [("lend", "olive", 1), ("return", "olive", 2)]
     assert_problem(client.post(f"/v1/clubs/{CLUB}/loans/{loan['id']}/return", json={},
                                headers=people.officer.headers), 409, "status")
     assert_problem(client.post(f"/v1/clubs/{CLUB}/loans/{loan['id'] + 99}/return", json={},

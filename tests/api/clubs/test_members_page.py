@@ -104,3 +104,18 @@ def test_the_session_expires(settings, make_account):
         time.sleep(2.1)
         assert "Signed in as" not in client.get(AREA).text
     short.state.engine.dispose()
+
+
+def test_wrong_keys_at_the_form_meet_the_failed_key_limit(settings, make_account):
+    from fastapi.testclient import TestClient
+
+    from api.app import create_app
+    from api.storage import db
+
+    strict = create_app(settings.model_copy(update={"rate_limit_failed_auth": "3/minute"}))
+    db.upgrade(strict.state.engine)
+    with TestClient(strict) as client:
+        club_with_people(client, make_account)
+        statuses = [sign_in(client, f"rb_wrong-{n}").status_code for n in range(4)]
+    strict.state.engine.dispose()
+    assert statuses == [401, 401, 401, 429]

@@ -30,7 +30,7 @@ def test_inline_comparison_answers_the_contract(client):
     })
     assert response.status_code == 200, response.text
     body = response.json()
-    assert body["rigs"] == [{"id": None, "name": "a"}, {"id": None, "name": "b"}]
+    assert body["rigs"] == [{"id": None, "name": "a", "cautions": []}, {"id": None, "name": "b", "cautions": []}]
     assert body["baseline"] == 0
     result = body["results"]["light_grasp"]
     assert result["error"] is None and isinstance(result["version"], str) and isinstance(result["cautions"], list)
@@ -67,7 +67,8 @@ def test_stored_rigs_and_inline_rigs_compare_together(client, alice, bob):
     }, headers=bob.headers)
     assert response.status_code == 200, response.text
     body = response.json()
-    assert body["rigs"] == [{"id": stored["id"], "name": "stored"}, {"id": None, "name": "inline with stored scope"}]
+    assert [{k: r[k] for k in ("id", "name")} for r in body["rigs"]] == [
+        {"id": stored["id"], "name": "stored"}, {"id": None, "name": "inline with stored scope"}]
     values = body["results"]["light_grasp"]["outputs"]["clear_area_mm2"]["values"]
     assert values[0] == values[1] == pytest.approx(annulus_mm2(200, 70), rel=1e-12)
 

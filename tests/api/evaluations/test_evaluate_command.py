@@ -9,6 +9,7 @@ from __future__ import annotations
 
 import io
 import json
+import re
 import os
 import socket
 import subprocess
@@ -21,6 +22,7 @@ from rigbench_testing import CAMERA, MODIFIER, MOUNT, TELESCOPE
 
 from api.cli import main
 from api.client import RigbenchClient
+from api.display import number_text
 from api.evaluations.command import ProgressBar, front_table
 from calculators.evaluation_schemas import InlineEvaluationRequest
 from calculators.sweep import evaluate_spec
@@ -66,9 +68,10 @@ def request_file(tmp_path):
 
 
 def table_rows(text):
-    """The data rows of the printed table (after the dashes, up to a blank line or the "… more" note)."""
+    """The data rows of the printed table (after the rule under the headers, up to a blank line or the
+    "… more" note)."""
     lines = text.splitlines()
-    start = next(i for i, line in enumerate(lines) if line.startswith("-"))
+    start = next(i for i, line in enumerate(lines) if line.strip() and set(line.strip()) <= {"─", " "})
     rows = []
     for line in lines[start + 1:]:
         if not line.strip() or line.startswith("…"):
@@ -83,7 +86,8 @@ def test_in_process_prints_the_engine_s_front_as_a_table(request_file, capsys):
     expected = engine_answer(REQUEST)
     assert out.splitlines()[0] == (f"{expected['evaluated']} combinations, {expected['feasible']} feasible, "
                                    f"{len(expected['front'])} on the Pareto front")
-    assert "cost.total_price [EUR]" in out and "sampling.pixel_scale_arcsec [arcsec]" in out
+    # Headed by the labels and units the club page shows (api/display.py).
+    assert "Price [EUR]" in out and "Pixel scale [arcsec]" in out
     rows = table_rows(out)
     assert len(rows) == len(expected["front"])
     for line, row in zip(rows, expected["front"]):
@@ -92,7 +96,7 @@ def test_in_process_prints_the_engine_s_front_as_a_table(request_file, capsys):
             assert (entry or {"name": "none"})["name"] in line
         train = REQUEST["trains"][row["indices"]["train"]]
         assert (" + ".join(e["name"] for e in train) or "none") in line
-        assert f"{row['values']['cost.total_price']:.6g}" in line
+        assert number_text(row["values"]["cost.total_price"]) in line
     # The payload calculator's safety cautions go with any answer that used it.
     assert "Caution (payload)" in out
 
@@ -108,8 +112,8 @@ def test_a_sweep_in_several_chunks_shows_progress_and_the_same_answer(request_fi
     assert main(["evaluate", request_file(), "--chunk-rows", "8", "--json"]) == 0
     captured = capsys.readouterr()
     assert json.loads(captured.out) == engine_answer(REQUEST)
-    steps = [line for line in captured.err.splitlines() if line.startswith("sweeping [")]
-    assert [line.split("] ")[1].split()[0] for line in steps] == [f"{n}/6" for n in range(1, 7)]
+    # Not a terminal: the bar is written once, when the sweep is done.
+    assert "sweeping" in captured.err and "6/6 steps" in captured.err
     assert main(["evaluate", request_file(), "--chunk-rows", "8", "--quiet"]) == 0
     assert capsys.readouterr().err == ""
 
@@ -124,10 +128,21 @@ def test_the_progress_bar_redraws_in_place_on_a_terminal():
     bar(1, 1)  # a one-step sweep shows nothing
     assert stream.getvalue() == ""
     bar(1, 4)
+    first = stream.getvalue()
     bar(4, 4)
     text = stream.getvalue()
-    assert text.startswith("\rsweeping [##......] 1/4 steps") and "\rsweeping [########] 4/4 steps" in text
-    assert text.endswith("\n") and text.count("\n") == 1
+    plain = re.compile(r"\x1b\[[0-9;?]*[A-Za-z]")  # terminal control codes (colour, cursor)
+    assert "1/4 steps" in plain.sub("", first) and "4/4 steps" in plain.sub("", text)
+    assert "\x1b[2K" in text[len(first):]  # the line is cleared and redrawn in place, not appended
+    bar.close()
+
+
+def test_a_sweep_refused_half_way_leaves_the_bar_closed():
+    stream = io.StringIO()
+    bar = ProgressBar(stream, width=8)
+    bar(1, 4)
+    bar.close()
+    assert "1/4 steps" in stream.getvalue() and bar.progress.live.is_started is False
 
 
 @pytest.mark.parametrize(("body", "words"), [
@@ -173,6 +188,23 @@ def test_the_front_table_names_stored_equipment_by_id_and_cuts_long_fronts():
     assert len(rows) == 2 and "id 7" in rows[0] and "id 2" in rows[0] and "none" in rows[0]
     assert "telescope 1" in rows[1]
     assert "… and 1 more on the front" in text
+    assert "x.y [mm]" in text  # an answer without labels (an older server) is headed by its keys
+
+
+def test_the_front_table_uses_labels_and_puts_each_row_s_cautions_under_it():
+    answer = {
+        "evaluated": 2, "feasible": 2, "units": {"payload.payload_kg": "kg", "cost.price_per_cm2": "EUR/cm^2"},
+        "labels": {"payload.payload_kg": "Payload", "cost.price_per_cm2": "Price per aperture area"},
+        "cautions": {},
+        "front": [{"indices": {"telescope": i, "camera": 0, "modifier": 0, "mount": 0},
+                   "values": {"payload.payload_kg": 10.0 + 20 * i, "cost.price_per_cm2": 304.79999999999995},
+                   "score": 0.0, "cautions": ["Over the mount's rating: …"] if i else []} for i in range(2)],
+        "top": [],
+    }
+    text = front_table(answer, {"telescopes": [{"name": "a"}, {"name": "b"}], "cameras": [{"name": "c"}]})
+    assert "Payload [kg]" in text and "Price per aperture area [EUR/cm²]" in text
+    assert "305" in text and "304.79999999999995" not in text
+    assert "CAUTION, for these rows in particular:\n  #2: Over the mount's rating: …" in text
 
 
 # --- against a real server ------------------------------------------------------------------------

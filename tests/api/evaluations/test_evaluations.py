@@ -128,7 +128,7 @@ def test_the_answer_has_the_contract_shape(client):
     assert body["front"] and len(body["top"]) == min(5, body["feasible"])
     keys = {*CONSTRAINTS, *OBJECTIVES}
     for row in body["front"] + body["top"] + [body["baseline"]]:
-        assert set(row) == {"indices", "ids", "values", "score"}
+        assert set(row) == {"indices", "ids", "values", "score", "cautions"}
         assert set(row["indices"]) == set(AXES) and set(row["ids"]) == set(AXES)
         # everything inline: no stored ids (one null per element of the train)
         assert all(v is None for k, v in row["ids"].items() if k != "train")

@@ -120,7 +120,14 @@ class Dew(Calculator):
         "the tube and the air, so choose one rated several times higher (common practice).",
         "Below 0 °C moisture deposits as frost slightly above the dew point computed over water: keep a "
         "larger margin.",
-        "Use heaters and power supplies rated for outdoor, damp use, within their makers' ratings.",
+        "Use heaters and power supplies rated for outdoor, damp use, within their makers' ratings; size the "
+        "supply and its fuse for every heater together.",
+        "Mains power at a pier or in an observatory needs residual-current (RCD/GFCI) protection, "
+        "outdoor-rated equipment and an installation to the local electrical code by a licensed electrician.",
+        "A battery feeding heaters for hours runs warm: charge it only with its own charger, away from "
+        "anything that burns and never unattended, fuse it close to its terminals, and stop using a swollen "
+        "or damaged one (fire risk).",
+        "Heater and power cables trip people in the dark: route them off walkways and clear of the mount's swing.",
     )
 
     def compute(self, batch: RigBatch, params: DewParams) -> dict[str, np.ndarray]:
