@@ -196,7 +196,7 @@ def test_the_front_table_uses_labels_and_puts_each_row_s_cautions_under_it():
         "evaluated": 2, "feasible": 2, "units": {"payload.payload_kg": "kg", "cost.price_per_cm2": "EUR/cm^2"},
         "labels": {"payload.payload_kg": "Payload", "cost.price_per_cm2": "Price per aperture area"},
         "cautions": {},
-        "front": [{"indices": {"telescope": i, "camera": 0, "modifier": 0, "mount": 0},
+        "front": [{"indices": {"telescope": i, "camera": 0, "train": 0, "mount": 0},
                    "values": {"payload.payload_kg": 10.0 + 20 * i, "cost.price_per_cm2": 304.79999999999995},
                    "score": 0.0, "cautions": ["Over the mount's rating: …"] if i else []} for i in range(2)],
         "top": [],
