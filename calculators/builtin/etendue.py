@@ -81,13 +81,13 @@ class Etendue(Calculator):
     Params = NoParams
     outputs = (
         Output("etendue_m2_deg2", "m^2*deg^2", "Clear aperture area times the field's solid angle.",
-               label="Étendue"),
+               label="Étendue", nullable=True),
         Output("pixel_etendue_m2_arcsec2", "m^2*arcsec^2",
-               "Clear aperture area times one pixel's solid angle on the sky.", label="Étendue per pixel"),
+               "Clear aperture area times one pixel's solid angle on the sky.", label="Étendue per pixel", nullable=True),
         Output("field_solid_angle_deg2", "deg^2", "Solid angle of sky covered by the sensor.",
-               label="Field solid angle"),
+               label="Field solid angle", nullable=True),
         Output("etendue_ratio", "", "Étendue relative to the baseline rig.", relative=True,
-               label="Étendue ratio"),
+               label="Étendue ratio", nullable=True),
     )
     sources = (
         "Welford & Winston, High Collection Nonimaging Optics, 1989, ch. 2 (étendue, conservation).",

@@ -85,7 +85,7 @@ class Speed(Calculator):
                label="Throughput"),
         Output("time_factor_per_pixel", "",
                "Exposure time for equal signal per pixel from an extended object, relative to the "
-               "baseline (∝ 1/(A·τ·Ω_pixel)).", relative=True, label="Time per pixel"),
+               "baseline (∝ 1/(A·τ·Ω_pixel)).", relative=True, label="Time per pixel", nullable=True),  # null without a camera
         Output("time_factor_per_arcsec2", "",
                "Exposure time for equal signal per unit sky area, relative to the baseline "
                "(∝ 1/(A·τ)).", relative=True, label="Time per sky area"),
