@@ -62,19 +62,21 @@ def number_text(value: float | None) -> str:
 
 
 def nice_ticks(low: float, high: float, count: int = 6) -> list[float]:
-    """Round tick values covering [low, high]: steps of 1, 2 or 5 times a power of ten."""
+    """Round tick values covering [low, high]: steps of 1, 2 or 5 times a power of ten.
+
+    A range narrower than a millionth of its magnitude (or not finite) gets the one tick ``low``:
+    its steps would be lost in floating-point rounding. The ticks are counted before they are made,
+    so their number is bounded (about ``count``) whatever the values."""
     span = high - low
-    if not span > 0 or not math.isfinite(span):
+    scale = max(abs(low), abs(high))
+    if not (math.isfinite(span) and span > 1e-6 * scale and span > 1e-300):
         return [low]
     raw = span / max(count - 1, 1)
     power = 10 ** math.floor(math.log10(raw))
     step = next(m * power for m in (1, 2, 2.5, 5, 10) if m * power >= raw)
     first = math.ceil(low / step - 1e-9) * step
-    ticks, value = [], first
-    while value <= high + step * 1e-9:
-        ticks.append(0.0 if abs(value) < step * 1e-9 else value)
-        value += step
-    return ticks
+    n = int(math.floor((high - first) / step + 1e-9)) + 1
+    return [0.0 if abs(v) < step * 1e-9 else v for v in (first + i * step for i in range(n))]
 
 
 def _range(values: Sequence[float]) -> tuple[float, float]:
