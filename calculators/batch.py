@@ -119,9 +119,8 @@ def as_train(entry: Any) -> list:
         return []
     if isinstance(entry, Modifier):
         return [train_element(entry.to_element())]
-    if isinstance(entry, (list, tuple)):
-        return list(entry)
-    return [entry]
+    items = list(entry) if isinstance(entry, (list, tuple)) else [entry]
+    return [train_element(e) if isinstance(e, dict) else e for e in items]
 
 
 def camera_columns(cameras: Sequence[Camera | None]) -> dict[str, np.ndarray]:

@@ -80,6 +80,11 @@ class EvaluationSpec(Strict):
         "against; default the first of each list.",
     )
     limit: int = Field(default=20, ge=0, le=MAX_LIMIT, description="How many rows `top` holds.")
+    allow_incompatible: bool = Field(
+        default=False, description="Keep combinations the compatibility calculator says cannot be "
+        "assembled (wrong design, focal ratio out of range, cannot reach focus, too long); by "
+        "default they are excluded and counted in `excluded`. \"not stated\" never excludes.",
+    )
 
 
 #: One candidate train: its elements, telescope side first.
@@ -149,6 +154,12 @@ class EvaluationResult(BaseModel):
     """The answer to an evaluation."""
 
     evaluated: int = Field(description="Size of the cartesian product of the component lists.")
+    considered: int = Field(
+        default=0, description="Combinations left after excluding what cannot be assembled: "
+        "`evaluated` = `considered` + the `excluded` counts.")
+    excluded: dict[str, int] = Field(
+        default_factory=dict, description="Combinations left out because they cannot be assembled, "
+        "by the compatibility verdict that says why (none with `allow_incompatible`).")
     feasible: int = Field(description="How many combinations meet every constraint.")
     front: list[EvaluationRow] = Field(
         description="Every Pareto-optimal feasible combination on the objectives, ordered by the "

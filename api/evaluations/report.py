@@ -101,7 +101,7 @@ def context(spec: EvaluationSpec, components, result: EvaluationResult, registry
         "sheets": sheets, "picks_total": len(result.top), "max_picks": MAX_PICKS,
         "constraints": constraint_words, "objectives": objective_words,
         "evaluated": result.evaluated, "feasible": result.feasible, "front": len(result.front),
-        "excluded": getattr(result, "excluded", None),
+        "excluded": sum(result.excluded.values()) if getattr(result, "excluded", None) else None,
         "infeasible": result.evaluated - result.feasible,
         "baseline_feasible": result.baseline_feasible,
         "baseline_indices": ",".join(map(str, indices_of(result.baseline))),

@@ -55,6 +55,7 @@ def evaluate(
     progress: Progress | None = None,
     max_front_rows: int | None = None,
     check: Callable[[], None] | None = None,
+    allow_incompatible: bool = False,
 ) -> EvaluationResult:
     """Sweep telescopes × cameras × trains × mounts; return counts, the front and the top rows.
 
@@ -111,9 +112,10 @@ def evaluate(
         units.update({f"{name}.{out}": str(given.get(out, declared[out])) for out in plan.outputs})
 
     try:
+        excluded = None if allow_incompatible else {}
         feasible, front, top, base_score = run_passes(
             batch, plans, bounds, directions, nullable, chunk_rows, limit, progress,
-            max_front_rows=max_front_rows, check=check,
+            max_front_rows=max_front_rows, check=check, excluded=excluded,
         )
     except FrontLimitReached as exc:
         raise _front_too_large(exc.at_least, max_front_rows, exact=False) from None
@@ -146,6 +148,8 @@ def evaluate(
 
     return EvaluationResult(
         evaluated=evaluated,
+        considered=evaluated - sum((excluded or {}).values()),
+        excluded=excluded or {},
         feasible=feasible,
         front=rows(front.positions, front.scores.tolist()),
         top=rows(top.positions, top.scores.tolist()),
@@ -181,7 +185,8 @@ def evaluate_spec(
     return evaluate(
         telescopes, cameras, trains, mounts,
         objectives=spec.objectives, constraints=spec.constraints, params=spec.params,
-        baseline=spec.baseline, limit=spec.limit, **options,
+        baseline=spec.baseline, limit=spec.limit, allow_incompatible=spec.allow_incompatible,
+        **options,
     )
 
 

@@ -8,6 +8,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
+from calculators.builtin.compatibility import IMPOSSIBLE, VERDICTS, assessment
 from calculators.schemas import MIN_FOCAL_RATIO
 from calculators.sweep.chunks import chunk_of, compute
 from calculators.sweep.errors import CalculatorFailed
@@ -23,6 +24,7 @@ class Chunk:
     oriented: list[np.ndarray]  # objective values, smaller is better, each at its own shape
     feasible: int
     masked: dict[int, np.ndarray] = field(default_factory=dict)
+    excluded: dict[str, int] = field(default_factory=dict)  # impossible combinations, by verdict
 
     def masked_values(self, j: int) -> np.ndarray:
         """Objective ``j`` at its own shape, +inf where no feasible combination has it."""
@@ -32,7 +34,7 @@ class Chunk:
         return self.masked[j]
 
 
-def evaluate_chunk(batch, plans, bounds, directions, nullable, start, stop) -> Chunk:
+def evaluate_chunk(batch, plans, bounds, directions, nullable, start, stop, exclude=False) -> Chunk:
     """Telescopes ``start:stop``: outputs computed, masks combined, objectives oriented."""
     chunk_batch, drop = chunk_of(batch, start, stop)
     values = compute(plans, chunk_batch)
@@ -44,6 +46,21 @@ def evaluate_chunk(batch, plans, bounds, directions, nullable, start, stop) -> C
     focal_ratio = (batch["focal_length_mm"][start:stop] * batch["train_factor"]
                    / batch["aperture_mm"][start:stop])
     masks = [focal_ratio >= MIN_FOCAL_RATIO]
+    excluded = {}
+    if exclude:
+        # What cannot be assembled (calculators.builtin.compatibility) is never considered; each
+        # excluded combination is counted once, under its verdict.
+        code = assessment(chunk_batch)["code"]
+        if drop and code.shape[0] > 1:
+            code = code[drop:]
+        code = code.reshape((1,) * (len(shape) - code.ndim) + code.shape)
+        repeat = math.prod(shape) // code.size
+        for i, verdict in enumerate(VERDICTS):
+            if verdict in IMPOSSIBLE:
+                count = int(np.count_nonzero(code == i)) * repeat
+                if count:
+                    excluded[verdict] = count
+        masks.append(code >= len(IMPOSSIBLE))
     for key, (low, high) in bounds.items():
         v = values[key]
         masks.append((v >= low) & (v <= high))  # also refuses NaN and infinities
@@ -63,7 +80,7 @@ def evaluate_chunk(batch, plans, bounds, directions, nullable, start, stop) -> C
     for m in masks:
         mask = mask & m
     feasible = int(np.count_nonzero(mask)) * (math.prod(shape) // mask.size)
-    return Chunk(start, shape, np.broadcast_to(mask, shape), oriented, feasible)
+    return Chunk(start, shape, np.broadcast_to(mask, shape), oriented, feasible, excluded=excluded)
 
 
 def _reduce_mask(full: np.ndarray, shape: tuple[int, ...]) -> np.ndarray:

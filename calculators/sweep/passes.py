@@ -12,7 +12,7 @@ from calculators.sweep.ranking import Ranked, best, chunk_best, merge, row_score
 
 
 def run_passes(batch, plans, bounds, directions, nullable, chunk_rows, limit, progress, *,
-               max_front_rows=None, check=None):
+               max_front_rows=None, check=None, excluded=None):
     """Pass 1 over the chunks: counts and the front. Pass 2: the top rows by score, whose scale
     comes from the whole front (with a single chunk, its arrays are reused instead).
 
@@ -33,7 +33,8 @@ def run_passes(batch, plans, bounds, directions, nullable, chunk_rows, limit, pr
         nonlocal done
         for start, stop in spans:
             check()
-            chunk = evaluate_chunk(batch, plans, bounds, directions, nullable, start, stop)
+            chunk = evaluate_chunk(batch, plans, bounds, directions, nullable, start, stop,
+                                   exclude=excluded is not None)
             done += 1
             if progress is not None:
                 progress(done, total)
@@ -47,6 +48,9 @@ def run_passes(batch, plans, bounds, directions, nullable, chunk_rows, limit, pr
     kept = None
     for chunk in chunks():
         feasible += chunk.feasible
+        if excluded is not None:
+            for verdict, count in chunk.excluded.items():
+                excluded[verdict] = excluded.get(verdict, 0) + count
         kept = chunk if single else None
         if not chunk.feasible:
             continue

@@ -94,19 +94,19 @@ def camera_columns(rng: np.random.Generator, n: int) -> dict[str, np.ndarray]:
 
 
 def modifier_columns(rng: np.random.Generator, n: int) -> dict[str, np.ndarray]:
-    # About a third of the rigs have no modifier: neutral values, as RigBatch fills them.
+    # About a third of the rigs have an empty imaging train: neutral values, as RigBatch fills them.
     none = rng.random(n) < 1 / 3
     kind = rng.choice([k.value for k in ModifierKind], n)
     price, currency = _priced(rng, n, 100, 900)
     price[none], currency[none] = np.nan, ""
     return {
-        "modifier_kind": np.where(none, "", kind),
-        "modifier_factor": np.where(none, 1.0, rng.uniform(0.6, 1.0, n)),
-        "modifier_throughput": np.where(none, 1.0, rng.uniform(0.95, 0.99, n)),
-        "modifier_mass_kg": np.where(none, 0.0, rng.uniform(0.1, 0.8, n)),
-        "corrected_field_mm": np.where(none, np.nan, rng.uniform(30, 55, n)),
-        "modifier_price": price,
-        "modifier_currency": currency,
+        "train_kinds": np.where(none, "", kind),
+        "train_factor": np.where(none, 1.0, rng.uniform(0.6, 1.0, n)),
+        "train_throughput": np.where(none, 1.0, rng.uniform(0.95, 0.99, n)),
+        "train_mass_kg": np.where(none, 0.0, rng.uniform(0.1, 0.8, n)),
+        "train_corrected_field_mm": np.where(none, np.nan, rng.uniform(30, 55, n)),
+        "train_price": price,
+        "train_currency": currency,
     }
 
 

@@ -131,3 +131,38 @@ def test_the_verdict_is_impossible_exactly_when_design_or_range_forbid_it(design
     out = outputs(rig([element], design=design, aperture=100, focal=100 * native))
     forbidden = design != "refractor" or not (low * (1 - 1e-9) <= native <= (low + width) * (1 + 1e-9))
     assert (str(out["verdict"][0]) in IMPOSSIBLE) == forbidden
+
+
+# --- sweeps honour it -------------------------------------------------------------------------------
+
+DESIGNS = ["refractor", "newtonian", "schmidt-cassegrain"]
+scopes = st.builds(lambda d, a, n: {"design": d, "aperture_mm": a, "focal_length_mm": a * n,
+                                    "price": {"amount": a * 10, "currency": "EUR"}},
+                   st.sampled_from(DESIGNS), st.sampled_from([80.0, 150.0, 200.0]), st.sampled_from([4.0, 6.0, 10.0]))
+optics = st.builds(lambda d, lo, f: {"kind": "reducer", "factor": f, "designs": d, "focal_ratio_min": lo,
+                                     "focal_ratio_max": lo + 3},
+                   st.lists(st.sampled_from(DESIGNS), max_size=2, unique=True), st.sampled_from([3.0, 5.0, 9.0]),
+                   st.sampled_from([0.63, 0.8]))
+
+
+@given(st.lists(scopes, min_size=1, max_size=3), st.lists(st.lists(optics, max_size=1), min_size=1, max_size=3))
+@settings(deadline=None, max_examples=40)
+def test_no_front_or_top_row_is_a_combination_the_calculator_calls_impossible(telescopes, trains):
+    from calculators.schemas import Camera, Telescope
+    from calculators.sweep import evaluate
+    from plugins.registry import load_registry
+
+    registry = load_registry().calculators
+    t_models = [Telescope.model_validate(t) for t in telescopes]
+    camera = Camera(**CAMERA)
+    objectives = {"speed.time_factor_per_pixel": "min", "cost.total_price": "min"}
+    result = evaluate(t_models, [camera], trains, objectives=objectives, calculators=registry, limit=50)
+    kept = evaluate(t_models, [camera], trains, objectives=objectives, calculators=registry, limit=50,
+                    allow_incompatible=True)
+    assert result.evaluated == result.considered + sum(result.excluded.values())
+    assert kept.excluded == {} and kept.considered == kept.evaluated
+    alone = [[str(outputs(Rig(name="r", telescope=t, train=train, camera=camera))["verdict"][0])
+              for train in trains] for t in t_models]
+    assert sum(v in IMPOSSIBLE for row in alone for v in row) == sum(result.excluded.values())
+    for row in result.front + result.top:
+        assert alone[row.indices.telescope][row.indices.train] not in IMPOSSIBLE

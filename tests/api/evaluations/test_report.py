@@ -128,7 +128,7 @@ def test_each_sheet_lists_parts_prices_bounds_and_cautions():
         assert any("Sun" in c for c in sheet["cautions"])
         if getattr(row.indices, "mount") is not None and MOUNTS[row.indices.mount] is not None:
             assert any("counterweight" in c.lower() for c in sheet["cautions"])
-        assert sheet["compatibility"] is None  # no compatibility calculator is loaded here
+        assert sheet["compatibility"][0]["label"] == "Fit"  # the built-in compatibility calculator
     assert page["constraints"][0].startswith("Pixel scale (sampling.pixel_scale_arcsec) between 0.6 and 2.5 arcsec")
 
 
