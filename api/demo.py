@@ -43,6 +43,11 @@ CLUB_EQUIPMENT: dict[str, tuple[Resource, dict[str, Any]]] = {
         "focal_length_mm": "2000 mm", "obstruction_mm": 70, "mass_kg": 6.4, "image_circle_mm": 30,
         "price": _price(1500),
     }),
+    "dobsonian_200": (resources.TELESCOPES, {
+        "name": "200 mm f/6 dobsonian tube", "design": "newtonian", "aperture_mm": 200, "focal_length_mm": 1200,
+        "obstruction_mm": 50, "mass_kg": 9.5, "length_mm": 1180, "tube_diameter_mm": 240,
+        "spider_vanes": 4, "mirror_thickness_mm": 25, "price": _price(450),
+    }),
     "coma_corrector": (resources.TRAIN_ELEMENTS, {
         "name": "coma corrector 1.0x", "kind": "corrector", "factor": 1.0, "mass_kg": 0.4,
         "designs": ["newtonian"], "focal_ratio_min": 3.5, "focal_ratio_max": 6, "image_circle_mm": 44,
@@ -79,6 +84,16 @@ CLUB_EQUIPMENT: dict[str, tuple[Resource, dict[str, Any]]] = {
         "name": "spacer 37.5 mm", "kind": "spacer", "optical_length_mm": 37.5, "mass_kg": 0.1,
         "price": _price(30),
     }),
+    "eyepiece_25": (resources.TRAIN_ELEMENTS, {
+        "name": "25 mm eyepiece, 52 degrees", "kind": "eyepiece", "focal_length_mm": 25,
+        "apparent_field_deg": 52, "field_stop_mm": 21.5, "eye_relief_mm": 17, "mass_kg": 0.15,
+        "price": _price(40),
+    }),
+    "eyepiece_9": (resources.TRAIN_ELEMENTS, {
+        "name": "9 mm eyepiece, 82 degrees", "kind": "eyepiece", "focal_length_mm": 9,
+        "apparent_field_deg": 82, "field_stop_mm": 12.5, "eye_relief_mm": 13, "mass_kg": 0.45,
+        "price": _price(160),
+    }),
     "mono_camera": (resources.CAMERAS, {
         "name": "cooled mono camera, 3.8 um pixels", "pixel_size_um": 3.8, "width_px": 6000, "height_px": 4000,
         "quantum_efficiency": 0.8, "read_noise_e": 1.5, "dark_current_e_per_s": 0.003, "mass_kg": 0.9,
@@ -97,7 +112,15 @@ CLUB_EQUIPMENT: dict[str, tuple[Resource, dict[str, Any]]] = {
         "name": "light german-equatorial mount, 15 kg", "type": "german-equatorial", "capacity_kg": 15,
         "mass_kg": 9, "price": _price(1400),
     }),
+    "dobsonian_base": (resources.MOUNTS, {
+        "name": "dobsonian rocker box, 25 kg", "type": "dobsonian", "capacity_kg": 25, "mass_kg": 14,
+        "price": _price(300),
+    }),
 }
+
+#: The club's dobsonian-style telescopes (newtonian tubes) and the eyepieces lent with them.
+DOBSONIAN_TELESCOPES = ("newtonian", "dobsonian_200")
+EYEPIECES = ("eyepiece_25", "eyepiece_9")
 
 CLUB_RIGS: list[dict[str, Any]] = [
     {
@@ -119,6 +142,11 @@ CLUB_RIGS: list[dict[str, Any]] = [
         "camera": "mono_camera", "mount": "heavy_mount",
         "geometry": {"payload_arm_mm": 250, "counterweight_kg": 12},
     },
+] + [
+    # Visual rigs: each dobsonian-style tube on the rocker box with each eyepiece, no camera.
+    {"name": f"{CLUB_EQUIPMENT[scope][1]['name']} + {CLUB_EQUIPMENT[eyepiece][1]['focal_length_mm']} mm eyepiece",
+     "telescope": scope, "train": [eyepiece], "mount": "dobsonian_base"}
+    for scope in DOBSONIAN_TELESCOPES for eyepiece in EYEPIECES
 ]
 
 

@@ -170,8 +170,11 @@ def fields_picture(comparison: ClubComparison, ident: str = "fields") -> str | N
         return None
     fits = _values(comparison, "target_fit", "fits_in_field") or [None] * n
     panels = _values(comparison, "target_fit", "panels") or [None] * n
+    # A visual rig (an eyepiece, no camera) has no camera field to draw: it is left out of the picture.
+    eyepiece_field = _values(comparison, "visual", "true_field_arcmin") or [None] * n
     frames = [pictures.Frame(rig.name, width[i], height[i], fits[i], panels[i])
-              for i, rig in enumerate(comparison.rigs)]
+              for i, rig in enumerate(comparison.rigs)
+              if not (width[i] is None and eyepiece_field[i] is not None)]
     target = pictures.SkyObject(found.label, found.major_arcmin, found.minor_arcmin, CREDIT)
     return pictures.fields_svg(frames, target, ident=ident)
 

@@ -54,3 +54,28 @@ def test_every_built_in_calculator_computes_for_the_demo_rigs(app, client):
         assert result["error"] is None, (name, result["error"])
         numbers = [v for out in result["outputs"].values() for v in out["values"] if isinstance(v, float)]
         assert numbers, f"{name} gave no number for any demo rig"
+
+
+def test_the_readme_visual_comparison_answers_as_the_readme_shows(app, client):
+    # Keeps the documentation in step with the demo (a docs check, not a reference test; the visual
+    # formulas are checked against their sources in tests/calculators/test_visual.py).
+    import json
+    import re
+    from pathlib import Path
+
+    seed_demo(app.state.engine)
+    text = (Path(__file__).resolve().parents[2] / "README.md").read_text(encoding="utf-8")
+    section = text[text.index("**Visual rigs.**"):text.index("**Emission-line objects.**")]
+    body = json.loads(re.search(r"-d '(\{.*?\})'", section, flags=re.S).group(1))
+    answer = client.post("/v1/comparisons", json=body).json()
+    shown = [line.split(" | ") for line in re.findall(r"^\| (\d{3} mm f/.*?) \|$", section, flags=re.M)]
+    assert [row[0] for row in shown] == [r["name"] for r in answer["rigs"]] and len(shown) == 4
+    out = answer["results"]["visual"]["outputs"]
+    for i, (_name, magnification, pupil, field, method, useful, brightness) in enumerate(shown):
+        value = lambda key: out[key]["values"][i]  # noqa: E731
+        assert magnification == f"{value('magnification'):.0f}×"
+        assert pupil == f"{value('exit_pupil_mm'):.2f} mm"
+        assert field == f"{value('true_field_arcmin'):.1f}′" and method == value("true_field_method")
+        assert useful == f"{value('min_useful_magnification'):.0f}×–{value('max_useful_magnification'):.0f}×"
+        assert brightness == (f"{value('surface_brightness_ratio'):.2f} "
+                              f"({value('surface_brightness_change_mag'):.2f} mag dimmer)")

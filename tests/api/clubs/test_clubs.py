@@ -185,9 +185,10 @@ def test_the_demo_clubs_light_grasp_follows_the_annulus_area(app, client):
     body = client.get(f"/v1/clubs/{CLUB}/comparison").json()
     ratio = body["results"]["light_grasp"]["outputs"]["area_ratio"]["values"]
     # Plane geometry, A = π/4·(D² − d²), from the demo's specs (api/demo.py): 300 mm with a 100 mm
-    # obstruction, an unobstructed 80 mm, 200 mm with a 70 mm obstruction. Tolerance: rounding only.
-    big, small, sct = (300**2 - 100**2), 80**2, (200**2 - 70**2)
-    assert ratio == pytest.approx([1.0, small / big, sct / big], rel=1e-12)
+    # obstruction, an unobstructed 80 mm, 200 mm with a 70 mm obstruction; then the visual rigs, the
+    # 300 mm tube twice and a 200 mm with a 50 mm obstruction twice. Tolerance: rounding only.
+    big, small, sct, dob = (300**2 - 100**2), 80**2, (200**2 - 70**2), (200**2 - 50**2)
+    assert ratio == pytest.approx([1.0, small / big, sct / big, 1.0, 1.0, dob / big, dob / big], rel=1e-12)
 
 
 def test_the_baseline_is_chosen_by_rig_id(client, club):
@@ -261,7 +262,7 @@ def test_the_comparison_as_csv_has_a_row_per_rig_and_units_in_headers(app, clien
                           headers={"Accept": "text/csv;q=1, application/json;q=0.5"})
     table = rows(response)
     assert [int(r["rig_id"]) for r in table] == ids
-    assert [r["baseline"] for r in table] == ["false", "true", "false"]
+    assert [r["baseline"] for r in table] == ["true" if i == 1 else "false" for i in range(len(ids))]
     assert float(table[1]["light_grasp.area_ratio"]) == 1.0
     assert "light_grasp.clear_area_mm2 [mm²]" in table[0]
     assert "kestrel-ridge-astro-comparison.csv" in response.headers["content-disposition"]
