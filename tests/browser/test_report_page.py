@@ -103,7 +103,7 @@ def saved(server: str, key: str, objectives: dict, **changes) -> dict:
 
 def indices(row: dict) -> str:
     i = row["indices"]
-    return f"{i['telescope']},{i['camera']},{i['modifier']},{i['mount']}"
+    return f"{i['telescope']},{i['camera']},{i['train']},{i['mount']}"
 
 
 def drawn(page, chart: str, selector: str) -> list[dict]:
