@@ -20,6 +20,9 @@ BY_NAME: dict[str, str] = {
     "spider_vanes": "Straight vanes holding the secondary mirror (0 for none); sets the diffraction spikes.",
     "mirror_thickness_mm": "Primary mirror thickness at the edge, mm (for cool-down times).",
     "mass_kg": "Mass, kg.",
+    "apparent_field_deg": "Apparent field of view of the eyepiece, degrees (at most 130).",
+    "field_stop_mm": "Field stop diameter of the eyepiece, mm; when stated it sets the true field.",
+    "eye_relief_mm": "Eye relief: distance from the eyepiece's last lens to the exit pupil, mm.",
     "price": "Purchase price and its currency.",
     "width_px": "Sensor width, pixels.",
     "height_px": "Sensor height, pixels.",
@@ -97,6 +100,10 @@ BY_NAME: dict[str, str] = {
 }
 
 BY_SCHEMA: dict[tuple[str, str], str] = {
+    ("Indices", "telescope"): "Position (from 0) in the request's telescopes list.",
+    ("Indices", "camera"): "Position (from 0) in the request's cameras list.",
+    ("Indices", "train"): "Position (from 0) in the request's trains list.",
+    ("Indices", "mount"): "Position (from 0) in the request's mounts list.",
     ("Problem", "status"): "HTTP status code of this answer.",
     ("Health", "status"): "'ok' when the service answers.",
     ("Health", "version"): "Version of the running rigbench.",
@@ -129,7 +136,21 @@ def fill(document: dict[str, Any]) -> None:
             text = BY_SCHEMA.get((schema_name, field))
             if text is None and field == "kind" and "Modifier" in schema_name:
                 text = BY_SCHEMA[("Modifier", "kind")]
+            if text is None and field == "kind":
+                text = _element_kind(spec)
             if text is None:
                 text = BY_NAME.get(field)
             if text is not None:
                 spec["description"] = text
+
+
+TRAIN_KINDS = ("reducer, reducer-flattener, flattener, corrector, barlow (or extender), filter, filter-wheel, "
+               "off-axis-guider, spacer or eyepiece")
+
+
+def _element_kind(spec: dict[str, Any]) -> str:
+    """The ``kind`` of an imaging-train element: the values its schema allows, or all of them."""
+    values = [spec["const"]] if "const" in spec else spec.get("enum")
+    if values:
+        return f"Kind of imaging-train element: {' or '.join(values)}."
+    return f"Kind of imaging-train element: {TRAIN_KINDS}."

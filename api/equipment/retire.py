@@ -12,7 +12,7 @@ from sqlalchemy import update
 
 from api.deps import Caller, ItemId, SessionDep, SettingsDep, Writer
 from api.equipment import copies
-from api.equipment.rules import CAMERAS, MODIFIERS, MOUNTS, RIGS, TELESCOPES, Resource
+from api.equipment.rules import CAMERAS, MODIFIERS, MOUNTS, RIGS, TELESCOPES, TRAIN_ELEMENTS, Resource
 from api.http import problems
 from api.http.etags import etag
 from api.http.problems import ApiProblem
@@ -22,7 +22,7 @@ from api.storage.history_schemas import HistoryList, history_page
 from api.storage.models import utcnow
 from api.storage.store import begin_write, fetch_owned, fetch_readable, lock_rows
 
-RESOURCES = (TELESCOPES, CAMERAS, MODIFIERS, MOUNTS, RIGS)
+RESOURCES = (TELESCOPES, CAMERAS, TRAIN_ELEMENTS, MODIFIERS, MOUNTS, RIGS)
 
 
 def retire_router(resource: Resource) -> APIRouter:
@@ -30,7 +30,7 @@ def retire_router(resource: Resource) -> APIRouter:
     Public, label, table = resource.public, resource.label, resource.table
 
     @router.post(
-        "/{item_id}/retire", response_model=Public, operation_id=f"retire_{label}",
+        "/{item_id}/retire", response_model=Public, operation_id=f"retire_{label.replace(' ', '_')}",
         summary=f"Retire a {label} you own (rigs that use it keep a copy)",
         description="It leaves every list and cannot be used in new rigs or lent. Rigs of any account "
         "that used it keep computing from a copy of its spec taken now, marked as using retired "
@@ -54,8 +54,8 @@ def retire_router(resource: Resource) -> APIRouter:
                 raise ApiProblem(409, f"{label} {item_id} changed while it was being retired; try again")
             copied = []
             if resource is not RIGS:
-                rigs = copies.rigs_using(session, label, item_id, lock=True)
-                copied = copies.copy_into(session, label, resource.path, row, rigs, copies.RETIRED, principal)
+                rigs = copies.rigs_using(session, table, item_id, lock=True)
+                copied = copies.copy_into(session, resource.path, row, rigs, copies.RETIRED, principal)
             history.record(session, kind=resource.path, item_id=item_id, owner_id=row.owner_id,
                            version=version + 1, action="retire", actor=principal.account,
                            changed={"retired_at": {"from": None, "to": now.isoformat()},
@@ -67,7 +67,7 @@ def retire_router(resource: Resource) -> APIRouter:
         return public
 
     @router.get(
-        "/{item_id}/history", response_model=HistoryList, operation_id=f"get_{label}_history",
+        "/{item_id}/history", response_model=HistoryList, operation_id=f"get_{label.replace(' ', '_')}_history",
         summary=f"Every change to a {label} you can read: who, when, which version, which fields",
         responses=problems.responses(401, 404, 422),
     )

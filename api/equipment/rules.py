@@ -160,7 +160,7 @@ def _equipment_hooks(label: str, slot: str):
                 # Other accounts' rigs keep a copy of the item as it is now; they cannot block its owner.
                 from api.equipment import copies
 
-                copies.copy_into(session, label, f"{label}s", row, others, copies.MADE_PRIVATE, principal)
+                copies.copy_into(session, f"{label}s", row, others, copies.MADE_PRIVATE, principal)
                 rigs = [r for r in rigs if r.owner_id == row.owner_id]
         if values["spec"] != row.spec:
             after = stored_rig_specs(session, rigs, override={(slot, row.id): values["spec"]})

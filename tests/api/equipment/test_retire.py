@@ -80,3 +80,26 @@ def test_the_history_names_who_changed_what(client, alice, bob):
     # Whoever cannot read the item cannot read its history.
     assert_problem(client.get(f"/v1/rigs/{rig}/history"), 404)
     assert_problem(client.get(f"/v1/telescopes/{scope}/history?limit=1000"), 422, "limit")
+
+
+REDUCER = {"kind": "reducer", "name": "0.8x reducer", "factor": 0.8}
+
+
+def test_retiring_or_hiding_a_train_element_leaves_others_comparison_results_unchanged(client, alice, bob):
+    """A train element may stand in any of a rig's train places: the copy replaces that place."""
+    for path, change in (("/v1/train-elements", "retire"), ("/v1/modifiers", "private")):
+        element = client.post(path, json={**REDUCER, "visibility": "public"}, headers=alice.headers)
+        assert element.status_code == 201, element.text
+        element_id = element.json()["id"]
+        rig = client.post("/v1/rigs", json={"name": f"bob's {change}", "telescope": TELESCOPE, "camera": CAMERA,
+                                            "train": [{"id": element_id}]}, headers=bob.headers)
+        assert rig.status_code == 201, rig.text
+        before = compare(client, bob.headers, rig.json()["id"])
+        if change == "retire":
+            answer = client.post(f"{path}/{element_id}/retire", headers=alice.headers)
+        else:
+            answer = client.patch(f"{path}/{element_id}", json={"visibility": "private"}, headers=alice.headers)
+        assert answer.status_code == 200, answer.text
+        assert compare(client, bob.headers, rig.json()["id"]) == before
+        shown = client.get(f"/v1/rigs/{rig.json()['id']}", headers=bob.headers).json()
+        assert shown["copied_parts"][0]["slot"] == "train" and shown["copied_parts"][0]["id"] == element_id
