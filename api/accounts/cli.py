@@ -14,10 +14,15 @@ from typing import Any
 from api.settings import Settings
 
 
-def _with_session(settings: Settings, work: Callable[[Any], int]) -> int:
+def with_session(settings: Settings, work: Callable[[Any], int]) -> int:
+    """Run ``work`` in a session on the configured database; a refusal is printed, exit code 2.
+
+    Refusals are the accounts' own (``AccountError``) and problems an API rule raises
+    (``ApiProblem``, e.g. from the club membership rules), so every command reports them alike."""
     from sqlmodel import Session
 
     from api.accounts.keys import AccountError
+    from api.http.problems import ApiProblem
     from api.storage import db
 
     engine = db.make_engine(settings.database_url)
@@ -28,6 +33,9 @@ def _with_session(settings: Settings, work: Callable[[Any], int]) -> int:
             return work(session)
     except AccountError as exc:
         print(f"error: {exc}", file=sys.stderr)
+        return 2
+    except ApiProblem as problem:
+        print(f"error: {problem.detail}", file=sys.stderr)
         return 2
     finally:
         engine.dispose()
@@ -42,7 +50,7 @@ def run_keys(args: argparse.Namespace, settings: Settings) -> int:
             print(f"{key.prefix}…  {key.scope:<5}  {key.created_at}  {state}")
         return 0
 
-    return _with_session(settings, work)
+    return with_session(settings, work)
 
 
 def run_add_key(args: argparse.Namespace, settings: Settings) -> int:
@@ -55,7 +63,7 @@ def run_add_key(args: argparse.Namespace, settings: Settings) -> int:
         print(key)
         return 0
 
-    return _with_session(settings, work)
+    return with_session(settings, work)
 
 
 def run_revoke_key(args: argparse.Namespace, settings: Settings) -> int:
@@ -66,7 +74,7 @@ def run_revoke_key(args: argparse.Namespace, settings: Settings) -> int:
         print(f"Revoked key {info.prefix}… of {args.name!r}; it is refused from now on.")
         return 0
 
-    return _with_session(settings, work)
+    return with_session(settings, work)
 
 
 def run_rotate_key(args: argparse.Namespace, settings: Settings) -> int:
@@ -78,7 +86,7 @@ def run_rotate_key(args: argparse.Namespace, settings: Settings) -> int:
         print(key)
         return 0
 
-    return _with_session(settings, work)
+    return with_session(settings, work)
 
 
 def add_key_commands(commands: argparse._SubParsersAction) -> None:

@@ -7,28 +7,9 @@ over HTTP the same is ``PUT/DELETE /v1/clubs/{club}/members/{person}``, for the 
 from __future__ import annotations
 
 import argparse
-import sys
 
+from api.accounts.cli import with_session
 from api.settings import Settings
-
-
-def _run(settings: Settings, work) -> int:
-    from sqlmodel import Session
-
-    from api.http.problems import ApiProblem
-    from api.storage import db
-
-    engine = db.make_engine(settings.database_url)
-    if settings.is_sqlite:
-        db.upgrade(engine)
-    try:
-        with Session(engine) as session:
-            return work(session)
-    except ApiProblem as problem:
-        print(f"error: {problem.detail}", file=sys.stderr)
-        return 2
-    finally:
-        engine.dispose()
 
 
 def _club(session, name: str):
@@ -47,7 +28,7 @@ def run_add_member(args: argparse.Namespace, settings: Settings) -> int:
         print(f"{args.person} is now {row.role} of {club.name}")
         return 0
 
-    return _run(settings, work)
+    return with_session(settings, work)
 
 
 def run_remove_member(args: argparse.Namespace, settings: Settings) -> int:
@@ -59,7 +40,7 @@ def run_remove_member(args: argparse.Namespace, settings: Settings) -> int:
         print(f"{args.person} is no longer a member of {club.name}")
         return 0
 
-    return _run(settings, work)
+    return with_session(settings, work)
 
 
 def run_members(args: argparse.Namespace, settings: Settings) -> int:
@@ -71,7 +52,7 @@ def run_members(args: argparse.Namespace, settings: Settings) -> int:
             print(f"{person:<40}  {role:<8}  since {since.date().isoformat()}")
         return 0
 
-    return _run(settings, work)
+    return with_session(settings, work)
 
 
 def add_clubs(subparsers: argparse._SubParsersAction) -> None:
