@@ -4,12 +4,20 @@ from __future__ import annotations
 
 import math
 
+import numpy as np
 import pint
 import pytest
 from hypothesis import given
 from hypothesis import strategies as st
 from calculators.batch import RigBatch
-from calculators.rig_cautions import LIFT_GUIDELINE_KG, rig_cautions
+from calculators.rig_cautions import (
+    LIFT_GUIDELINE_KG,
+    PAYLOAD_PARTS,
+    SMALL_BATCH_ROWS,
+    cautions_by_arrays,
+    cautions_by_rows,
+    rig_cautions,
+)
 from calculators.schemas import Rig
 from plugins.strategies import rig_lists
 
@@ -88,3 +96,20 @@ def test_cautions_appear_exactly_when_payload_exceeds_rating_or_an_item_the_guid
         heavy = bool(items) and max(items) > LIFT_GUIDELINE_KG
         assert any(c.startswith("Over the mount's rating") for c in found) == over
         assert any(c.startswith("Heavy lift") for c in found) == heavy
+
+
+@given(rig_lists(max_size=8, complete=None), st.lists(st.sampled_from(["at", "below", "drawn"]), min_size=8,
+                                                      max_size=8), st.floats(1, 60))
+def test_the_small_batch_path_gives_the_array_paths_cautions_word_for_word(rigs, where, capacity):
+    # Exact, not within a tolerance: the row path adds the same doubles in the same order, so each
+    # payload is the same double. Capacities set to the array path's own payload ("at": no caution)
+    # and to the next double below it ("below": a caution) show that a single ulp apart would differ.
+    batch = RigBatch.from_rigs(rigs)
+    parts = np.stack([np.asarray(batch[c]) for c in PAYLOAD_PARTS])
+    payload = np.nansum(parts, axis=0)
+    chosen = {"at": payload, "below": np.nextafter(payload, -np.inf), "drawn": np.full(len(rigs), capacity)}
+    capacities = np.array([chosen[w][i] for i, w in enumerate(where[:len(rigs)])])
+    edged = RigBatch(columns={**batch.columns, "capacity_kg": capacities}, baseline=(0,))
+    for one in (batch, edged):
+        assert cautions_by_rows(one) == cautions_by_arrays(one)
+    assert len(rigs) <= SMALL_BATCH_ROWS and rig_cautions(edged) == cautions_by_rows(edged)
