@@ -65,7 +65,8 @@ def sample(components: Sequence[Sequence], spec: EvaluationSpec, calculators: Ma
     base = int(np.ravel_multi_index(tuple(getattr(spec.baseline, k) for k in AXES), sizes))
     rows = np.union1d(flat, [base])
     index = np.unravel_index(rows, sizes)
-    sweep = RigBatch.from_components(*components)
+    sweep = RigBatch.from_components(*components, accessories=spec.accessories,
+                                     geometry=spec.geometry)
     columns = {}
     for name, column in sweep.columns.items():
         column = np.asarray(column)

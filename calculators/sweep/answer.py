@@ -8,7 +8,7 @@ from collections.abc import Callable, Mapping, Sequence
 from typing import Any
 
 import numpy as np
-from pydantic import BaseModel
+from pydantic import BaseModel, ValidationError
 
 from calculators.base import Calculator
 from calculators.batch import AXES, RigBatch, as_train
@@ -21,7 +21,7 @@ from calculators.evaluation_schemas import (
     Indices,
 )
 from calculators.pareto import FrontLimitReached
-from calculators.schemas import Camera, Mount, Telescope
+from calculators.schemas import Accessory, Camera, Geometry, Mount, Telescope, one_currency
 from calculators.rig_cautions import rig_cautions
 from calculators.sweep.chunks import guarded, row_batch, row_values
 from calculators.sweep.errors import EvaluationError, FrontTooLarge, TooManyCombinations
@@ -56,11 +56,16 @@ def evaluate(
     max_front_rows: int | None = None,
     check: Callable[[], None] | None = None,
     allow_incompatible: bool = False,
+    accessories: Sequence[Accessory | Mapping[str, Any]] = (),
+    geometry: Geometry | Mapping[str, Any] | None = None,
 ) -> EvaluationResult:
     """Sweep telescopes × cameras × trains × mounts; return counts, the front and the top rows.
 
     A train is a list of elements (``[]``: nothing between telescope and camera); an old
     :class:`Modifier` or None is read as a one-element or empty train (see :func:`as_train`).
+
+    ``accessories`` and ``geometry`` (as a rig's) belong to every combination: they count in
+    its payload, price and moments as they do in a rig compared on its own.
 
     ``calculators`` maps names to calculators (e.g. ``registry.calculators``); ``ids`` optionally
     gives stored ids per kind (``{"telescope": [7, None, ...], ...}``, aligned with the lists);
@@ -88,6 +93,7 @@ def evaluate(
             loc=(),
         )
     base = baseline_indices(baseline, sizes)
+    accessories, geometry = shared_parts(accessories, geometry)
     if isinstance(limit, bool) or not isinstance(limit, int) or limit < 0:
         raise EvaluationError(f"limit: must be a whole number ≥ 0, got {limit!r}", loc=("limit",))
     if chunk_rows < 1:
@@ -99,7 +105,8 @@ def evaluate(
         constraints or {}, objectives, params or {}, calculators
     )
 
-    batch = RigBatch.from_components(*lists, baseline=base)
+    batch = RigBatch.from_components(*lists, baseline=base, accessories=accessories,
+                                     geometry=geometry)
     units: dict[str, str] = {}
     labels: dict[str, str] = {}
     for name, plan in plans.items():
@@ -162,6 +169,32 @@ def evaluate(
     )
 
 
+def shared_parts(accessories, geometry) -> tuple[list[Accessory], Geometry | None]:
+    """The accessories and geometry every combination shares, validated (EvaluationError naming
+    the field otherwise)."""
+    items = []
+    for i, item in enumerate(accessories):
+        items.append(_valid(Accessory, item, ("accessories", i)))
+    try:
+        one_currency(items)
+    except ValueError as exc:
+        raise EvaluationError(f"accessories: {exc}", loc=("accessories",)) from None
+    if geometry is not None:
+        geometry = _valid(Geometry, geometry, ("geometry",))
+    return items, geometry
+
+
+def _valid(model, value, loc: tuple):
+    if isinstance(value, model):
+        return value
+    try:
+        return model.model_validate(value)
+    except ValidationError as exc:
+        first = exc.errors()[0]
+        where = (*loc, *first["loc"])
+        raise EvaluationError(f"{'.'.join(map(str, where))}: {first['msg']}", loc=where) from None
+
+
 def _front_too_large(count: int, limit: int, exact: bool) -> FrontTooLarge:
     return FrontTooLarge(
         f"objectives: {'' if exact else 'at least '}{count:,} combinations are on the Pareto front, "
@@ -186,7 +219,7 @@ def evaluate_spec(
         telescopes, cameras, trains, mounts,
         objectives=spec.objectives, constraints=spec.constraints, params=spec.params,
         baseline=spec.baseline, limit=spec.limit, allow_incompatible=spec.allow_incompatible,
-        **options,
+        accessories=spec.accessories, geometry=spec.geometry, **options,
     )
 
 
