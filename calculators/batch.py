@@ -59,6 +59,7 @@ keeps its result on the batch, read-only, so the calculators that ask later get 
 from __future__ import annotations
 
 import functools
+import math
 from collections.abc import Callable, Iterator, Mapping, Sequence
 from dataclasses import dataclass, field
 from typing import Any, TypeVar
@@ -272,7 +273,7 @@ class RigBatch(Mapping[str, np.ndarray]):
     @property
     def size(self) -> int:
         """Number of rigs (combinations) in the batch."""
-        return int(np.prod(self.shape))
+        return math.prod(self.shape)  # the same int as np.prod, without numpy's call overhead
 
     def at_baseline(self, values: np.ndarray) -> np.ndarray:
         """The baseline rig's element of an output computed from this batch's columns."""
