@@ -79,7 +79,8 @@ def test_the_sweep_excludes_what_readme_says_and_keeps_it_on_request(client):
     assert answer["evaluated"] == answer["considered"] + sum(answer["excluded"].values())
     [front] = answer["front"]
     [pasted] = shown["front"]
-    assert {k: front[k] for k in ("indices", "values", "score")} == {k: pasted[k] for k in ("indices", "values", "score")}
+    keys = ("indices", "values", "score")
+    assert {k: front[k] for k in keys} == {k: pasted[k] for k in keys}
     # (4.8/6)² ÷ 0.97: the reduced focal ratio, and the reducer-flattener's default throughput.
     assert front["values"]["speed.time_factor_per_pixel"] == pytest.approx((4.8 / 6) ** 2 / 0.97, rel=1e-12)
 
