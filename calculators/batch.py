@@ -67,7 +67,7 @@ from typing import Any, TypeVar
 
 import numpy as np
 
-from calculators.schemas import Camera, Modifier, Mount, Price, Rig, Telescope
+from calculators.schemas import Accessory, Camera, Geometry, Modifier, Mount, Price, Rig, Telescope
 from calculators.train_columns import train_columns, with_eyepiece_axis
 from calculators.train_elements import train_element
 
@@ -165,19 +165,23 @@ def mount_columns(mounts: Sequence[Mount | None]) -> dict[str, np.ndarray]:
 
 def rig_extra_columns(rigs: Sequence[Rig]) -> dict[str, np.ndarray]:
     """Accessories (summed per rig) and german-equatorial geometry."""
+    return extra_columns([(rig.accessories, rig.geometry) for rig in rigs])
+
+
+def extra_columns(rows_in: Sequence[tuple[Sequence[Accessory], Geometry | None]]) -> dict[str, np.ndarray]:
+    """Accessories (summed) and geometry columns, one entry per ``(accessories, geometry)`` pair."""
     rows = []
     currencies = []
-    for rig in rigs:
-        priced = [a.price for a in rig.accessories if a.price is not None]
+    for accessories, g in rows_in:
+        priced = [a.price for a in accessories if a.price is not None]
         price = sum(p.amount for p in priced) if priced else NAN
         currencies.append(priced[0].currency if priced else "")
-        g = rig.geometry
         rows.append((
-            sum(a.mass_kg for a in rig.accessories), price,
+            sum(a.mass_kg for a in accessories), price,
             NAN if g is None else g.payload_arm_mm, NAN if g is None else g.counterweight_kg,
         ))
     names = ("accessories_mass_kg", "accessories_price", "payload_arm_mm", "counterweight_kg")
-    columns = _float_columns(names, rows, len(rigs))
+    columns = _float_columns(names, rows, len(rows_in))
     columns["accessories_currency"] = np.array(currencies, dtype="U3")
     return columns
 
@@ -315,6 +319,8 @@ class RigBatch(Mapping[str, np.ndarray]):
         trains: Sequence[Any] = ((),),
         mounts: Sequence[Mount | None] = (None,),
         baseline: tuple[int, int, int, int] = (0, 0, 0, 0),
+        accessories: Sequence[Accessory] = (),
+        geometry: Geometry | None = None,
         *,
         binning: Sequence[int] | None = None,
         eyepieces: Sequence[Any] | None = None,
@@ -322,7 +328,9 @@ class RigBatch(Mapping[str, np.ndarray]):
         """A sweep batch: the cartesian product telescope × camera × train × mount, never built.
 
         Each kind's columns lie along their own axis (see :data:`AXES`); a train entry is a list of
-        elements (see :func:`as_train`). Rigs in a sweep carry no accessories and no geometry.
+        elements (see :func:`as_train`). ``accessories`` and ``geometry`` belong to every
+        combination alike (their columns have one element, shape ``(1, 1, 1, 1)``), so a rig in a
+        sweep carries the same payload, price and moments as the same rig compared on its own.
 
         The camera axis may hold more than cameras (an evaluation's camera × binning pairs and its
         eyepieces, see :mod:`calculators.sweep.detectors`): ``binning`` gives each entry's factor,
@@ -340,10 +348,6 @@ class RigBatch(Mapping[str, np.ndarray]):
             **train_cols,
             **_along(mount_columns(mounts), 3, ndim),
         }
-        ones = np.ones((1,) * ndim)
-        columns.update(
-            accessories_mass_kg=0.0 * ones, accessories_price=NAN * ones,
-            accessories_currency=np.full((1,) * ndim, "", dtype="U3"),
-            payload_arm_mm=NAN * ones, counterweight_kg=NAN * ones,
-        )
+        shared = extra_columns([(list(accessories), geometry)])
+        columns.update({name: values.reshape((1,) * ndim) for name, values in shared.items()})
         return cls(columns=columns, baseline=tuple(baseline))

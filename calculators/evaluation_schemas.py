@@ -13,7 +13,7 @@ from typing import Annotated, Any, Literal
 from pydantic import BaseModel, Field, ValidationInfo, field_validator, model_validator
 
 from calculators.binning import MAX_BINNING
-from calculators.schemas import Camera, Modifier, Mount, Strict, Telescope
+from calculators.schemas import Accessory, Camera, Geometry, Modifier, Mount, Strict, Telescope, one_currency
 from calculators.site import SiteUsed
 from calculators.train_elements import MAX_TRAIN_ELEMENTS, TrainElement, check_train, train_element
 
@@ -99,11 +99,27 @@ class EvaluationSpec(Strict):
         "honour it). Rows name theirs in `indices.binning`. Default [1].",
         examples=[[1, 2]],
     )
+    accessories: list[Accessory] = Field(
+        default_factory=list, max_length=50,
+        description="Items added to every combination, as a rig's `accessories` (finder, guide "
+        "scope, dew heater…, each with its mass and price): they count in the payload and the "
+        "price of each combination, as they do in a stored or inline rig. Prices share one currency.",
+    )
+    geometry: Geometry | None = Field(
+        default=None, description="Where the payload sits on a german-equatorial mount, as a "
+        "rig's `geometry`, for every combination: the payload calculator's moments and inertia "
+        "need it (null: not stated, those outputs are null).",
+    )
     allow_incompatible: bool = Field(
         default=False, description="Keep combinations the compatibility calculator says cannot be "
         "assembled (wrong design, focal ratio out of range, cannot reach focus, too long); by "
         "default they are excluded and counted in `excluded`. \"not stated\" never excludes.",
     )
+
+    @field_validator("accessories")
+    @classmethod
+    def _accessories_share_a_currency(cls, value: list[Accessory]) -> list[Accessory]:
+        return one_currency(value)
 
 
 #: One candidate train: its elements, telescope side first.

@@ -8,7 +8,17 @@ from __future__ import annotations
 from pydantic import Field, ValidationInfo, field_validator
 
 from calculators.binning import MAX_BINNING
-from calculators.schemas import Accessory, Camera, Geometry, Modifier, Mount, Name, Strict, Telescope
+from calculators.schemas import (
+    Accessory,
+    Camera,
+    Geometry,
+    Modifier,
+    Mount,
+    Name,
+    Strict,
+    Telescope,
+    one_currency,
+)
 from calculators.train_elements import (
     MAX_TRAIN_ELEMENTS,
     ElementKind,
@@ -82,10 +92,7 @@ class Rig(Strict):
     @field_validator("accessories")
     @classmethod
     def _one_currency(cls, value: list[Accessory]) -> list[Accessory]:
-        currencies = {a.price.currency for a in value if a.price is not None}
-        if len(currencies) > 1:
-            raise ValueError(f"accessories of one rig must share a currency, got {sorted(currencies)}")
-        return value
+        return one_currency(value)
 
     def model_post_init(self, _context) -> None:
         self.modifier = None  # read into the train

@@ -24,6 +24,7 @@ from __future__ import annotations
 
 import math
 from collections.abc import Sequence
+from functools import cache
 
 import numpy as np
 
@@ -155,9 +156,16 @@ def fold(train: Sequence) -> tuple[dict[str, float], dict[str, object]]:
     return numbers, texts
 
 
+@cache
+def _nothing_folded() -> tuple[dict[str, float], dict[str, object]]:
+    # Most rigs of a comparison have no train (the camera on the telescope): the same fold every
+    # time, worked out once per process (it costs more than the rest of the columns together).
+    return fold([])
+
+
 def train_columns(trains: Sequence[Sequence]) -> dict[str, np.ndarray]:
     """Columns of shape ``(len(trains),)``; each train is a list of validated elements."""
-    folded = [fold(list(t)) for t in trains]
+    folded = [fold(list(t)) if t else _nothing_folded() for t in trains]
     n = len(folded)
     table = np.array([[f[0][name] for name in FLOAT_NAMES] for f in folded],
                      dtype=np.float64).reshape(n, len(FLOAT_NAMES)).T.copy()

@@ -71,7 +71,8 @@ def sample(components: Sequence[Sequence], spec: EvaluationSpec, calculators: Ma
     rows = np.union1d(flat, [base])
     index = np.unravel_index(rows, sizes)
     sweep = RigBatch.from_components(components[0], axis.cameras, components[2], components[3],
-                                     binning=axis.binning)
+                                     binning=axis.binning, accessories=spec.accessories,
+                                     geometry=spec.geometry)
     columns = {}
     for name, column in sweep.columns.items():
         column = np.asarray(column)

@@ -8,7 +8,7 @@ from collections.abc import Callable, Mapping, Sequence
 from typing import Any
 
 import numpy as np
-from pydantic import BaseModel
+from pydantic import BaseModel, ValidationError
 
 from calculators.base import Calculator
 from calculators.batch import AXES, RigBatch, as_train
@@ -21,7 +21,7 @@ from calculators.evaluation_schemas import (
     Indices,
 )
 from calculators.pareto import FrontLimitReached
-from calculators.schemas import Camera, Mount, Telescope
+from calculators.schemas import Accessory, Camera, Geometry, Mount, Telescope, one_currency
 from calculators.train_elements import train_element
 from calculators.rig_cautions import rig_cautions
 from calculators.sweep.chunks import guarded, row_batch, row_values
@@ -58,6 +58,8 @@ def evaluate(
     max_front_rows: int | None = None,
     check: Callable[[], None] | None = None,
     allow_incompatible: bool = False,
+    accessories: Sequence[Accessory | Mapping[str, Any]] = (),
+    geometry: Geometry | Mapping[str, Any] | None = None,
     binning: Sequence[int] = (1,),
     eyepieces: Sequence[Any] = (),
 ) -> EvaluationResult:
@@ -70,6 +72,9 @@ def evaluate(
     eyepiece × mount (see :mod:`calculators.sweep.detectors`). ``cameras`` may be empty when
     ``eyepieces`` are given, or when every train ends in an eyepiece (a visual sweep of explicit
     trains); a train ending in an eyepiece is refused beside cameras or ``eyepieces``.
+
+    ``accessories`` and ``geometry`` (as a rig's) belong to every combination: they count in
+    its payload, price and moments as they do in a rig compared on its own.
 
     ``calculators`` maps names to calculators (e.g. ``registry.calculators``); ``ids`` optionally
     gives stored ids per kind (``{"telescope": [7, None, ...], ..., "eyepiece": [...]}``, aligned
@@ -103,6 +108,7 @@ def evaluate(
             loc=(),
         )
     base = baseline_indices(baseline, shape, axis)
+    accessories, geometry = shared_parts(accessories, geometry)
     if isinstance(limit, bool) or not isinstance(limit, int) or limit < 0:
         raise EvaluationError(f"limit: must be a whole number ≥ 0, got {limit!r}", loc=("limit",))
     if chunk_rows < 1:
@@ -116,7 +122,8 @@ def evaluate(
     )
 
     batch = RigBatch.from_components(lists[0], axis.cameras, lists[2], lists[3], baseline=base,
-                                     binning=axis.binning, eyepieces=axis.eyepieces)
+                                     binning=axis.binning, eyepieces=axis.eyepieces,
+                                     accessories=accessories, geometry=geometry)
     units: dict[str, str] = {}
     labels: dict[str, str] = {}
     for name, plan in plans.items():
@@ -185,6 +192,32 @@ def evaluate(
     )
 
 
+def shared_parts(accessories, geometry) -> tuple[list[Accessory], Geometry | None]:
+    """The accessories and geometry every combination shares, validated (EvaluationError naming
+    the field otherwise)."""
+    items = []
+    for i, item in enumerate(accessories):
+        items.append(_valid(Accessory, item, ("accessories", i)))
+    try:
+        one_currency(items)
+    except ValueError as exc:
+        raise EvaluationError(f"accessories: {exc}", loc=("accessories",)) from None
+    if geometry is not None:
+        geometry = _valid(Geometry, geometry, ("geometry",))
+    return items, geometry
+
+
+def _valid(model, value, loc: tuple):
+    if isinstance(value, model):
+        return value
+    try:
+        return model.model_validate(value)
+    except ValidationError as exc:
+        first = exc.errors()[0]
+        where = (*loc, *first["loc"])
+        raise EvaluationError(f"{'.'.join(map(str, where))}: {first['msg']}", loc=where) from None
+
+
 def _front_too_large(count: int, limit: int, exact: bool) -> FrontTooLarge:
     return FrontTooLarge(
         f"objectives: {'' if exact else 'at least '}{count:,} combinations are on the Pareto front, "
@@ -209,7 +242,7 @@ def evaluate_spec(
         telescopes, cameras, trains, mounts,
         objectives=spec.objectives, constraints=spec.constraints, params=spec.params,
         baseline=spec.baseline, limit=spec.limit, allow_incompatible=spec.allow_incompatible,
-        binning=spec.binning, **options,
+        accessories=spec.accessories, geometry=spec.geometry, binning=spec.binning, **options,
     )
 
 
