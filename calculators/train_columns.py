@@ -205,3 +205,40 @@ def _columns(folded: list[tuple[dict[str, float], dict[str, object]]]) -> dict[s
         columns[name] = np.array([f[1][name] for f in folded], dtype=bool)
     columns["modifier_kind"] = np.array([f[1]["modifier_kind"] for f in folded], dtype=str)
     return columns
+
+
+#: Train columns an eyepiece on the sweep's camera axis changes, and how (see
+#: :func:`with_eyepiece_axis`).
+EYEPIECE_COLUMNS = ("eyepiece_focal_length_mm", "eyepiece_apparent_field_deg",
+                    "eyepiece_field_stop_mm", "eyepiece_eye_relief_mm")
+
+
+def _add_prices(a, b):
+    return np.where(np.isnan(a), b, np.where(np.isnan(b), a, a + b))
+
+
+def with_eyepiece_axis(trains: dict[str, np.ndarray], eyepieces: dict[str, np.ndarray]) -> dict:
+    """Train columns of a sweep whose camera axis also holds eyepieces (an evaluation's
+    ``eyepieces``): each train is then read as the train followed by the camera-axis entry's
+    eyepiece, exactly as :func:`fold` reads a train that ends in it. ``trains`` lie along the train
+    axis, ``eyepieces`` (the :func:`train_columns` of one-element or empty trains) along the camera
+    axis; the columns an eyepiece changes broadcast to camera × train, the others stay as they are.
+    """
+    out = dict(trains)
+    for name in EYEPIECE_COLUMNS:
+        mine, theirs = eyepieces[name], trains[name]
+        out[name] = mine if np.isnan(theirs).all() else np.where(np.isnan(mine), theirs, mine)
+    out["train_has_eyepiece"] = trains["train_has_eyepiece"] | eyepieces["train_has_eyepiece"]
+    out["train_mass_kg"] = trains["train_mass_kg"] + eyepieces["train_mass_kg"]
+    out["train_price"] = _add_prices(trains["train_price"], eyepieces["train_price"])
+    out["train_currency"] = np.where(trains["train_currency"] == "", eyepieces["train_currency"],
+                                     trains["train_currency"])
+    out["train_elements"] = trains["train_elements"] + eyepieces["train_elements"]
+    added = eyepieces["train_kinds"] != ""
+    out["train_kinds"] = np.where(
+        added, np.char.add(trains["train_kinds"],
+                           np.where(trains["train_kinds"] == "", "eyepiece", ",eyepiece")),
+        trains["train_kinds"])
+    out.update(modifier_mass_kg=out["train_mass_kg"], modifier_price=out["train_price"],
+               modifier_currency=out["train_currency"])
+    return out

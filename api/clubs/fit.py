@@ -31,8 +31,10 @@ CALCULATOR = "compatibility"
 
 
 def _mm(value: float) -> str:
-    """A length to 0.1 mm, without a trailing ".0": 3.13 -> "3.1", 28.0 -> "28"."""
-    text = f"{abs(value):.1f}".removesuffix(".0")
+    """A length to 0.1 mm (to 0.01 mm below 0.1 mm, so a shim never reads "0 mm"), without a
+    trailing ".0": 3.13 -> "3.1 mm", 28.0 -> "28 mm", 0.04 -> "0.04 mm"."""
+    size = abs(value)
+    text = f"{size:.2f}" if 0 < size < 0.095 else f"{size:.1f}".removesuffix(".0")
     return f"{text} mm"
 
 

@@ -159,7 +159,8 @@ def _club_page(name: str, request: Request, baseline: str | None, target: str, e
         figures=club_view.all_figures(result, counts=club_view.counts(request.app.state.registry)),
         fields=Markup(club_view.fields_picture(result) or ""), bars=Markup(club_view.bars_picture(result) or ""),
         equipment=club_view.equipment_tables(equipment), complete=equipment.complete,
-        rigs=club_view.rigs_table(rigs, {r.id: text for r, text in zip(result.rigs, fits)}), cautions=CAUTIONS, calculator_cautions=club_view.cautions(result),
+        rigs=club_view.rigs_table(rigs, {r.id: text for r, text in zip(result.rigs, fits)}),
+        cautions=CAUTIONS, calculator_cautions=club_view.cautions(result),
         rig_cautions=club_view.rig_cautions(result),
         credit=CREDIT, query=query, site_fields=SITE_FIELDS, api=f"/v1/clubs/{club.name}",
     )

@@ -159,7 +159,8 @@ def test_the_demo_club_page_shows_the_apis_comparison_and_pictures(tab, server):
             if value is None:  # a visual rig's imaging figures (and the other way round)
                 assert (cell["value"], cell["text"]) == ("null", "\u2014")
             elif cell["output"] == "compatibility.verdict":
-                assert cell["value"] == value and cell["text"]  # in words: test_the_rigs_say_whether_they_fit
+                # In words: test_the_rigs_say_whether_they_fit_in_words.
+                assert cell["value"] == value and cell["text"]
             elif isinstance(value, str):
                 assert cell["text"] == value
             else:

@@ -166,3 +166,14 @@ def test_without_the_figures_behind_it_the_verdict_keeps_the_calculators_reason(
         "wrong design: an element is not made for this telescope design")
     assert fit.describe({"verdict": "vignettes", "image_circle_mm": 20, "image_circle_to_diagonal": 0.5}) == (
         "vignettes: image circle 20 mm < sensor diagonal 40 mm")
+    # A stated tolerance of 0 can leave a shim's worth to add: it never reads "0 mm".
+    assert fit.describe({"verdict": "fits with spacers", "spacer_mm": 0.04}) == "fits with 0.04 mm of spacers"
+    assert fit.describe({"verdict": "too long", "spacer_mm": -0.096}) == "too long: 0.1 mm more than the backfocus allows"
+
+
+def test_a_club_without_rigs_has_a_rigs_csv_with_the_fit_column_and_no_rows(client, make_account):
+    make_account("empty-club", kind="club")
+    response = client.get("/v1/clubs/empty-club/rigs", params={"format": "csv"})
+    assert response.status_code == 200
+    header = next(csv.reader(io.StringIO(response.text)))
+    assert header[-1] == "fit" and csv_fits(client, "empty-club") == {}
