@@ -10,12 +10,18 @@ from __future__ import annotations
 
 from typing import Annotated, Any, Literal
 
-from pydantic import BaseModel, Field, ValidationInfo, field_validator, model_validator
+from pydantic import BaseModel, BeforeValidator, Field, ValidationInfo, field_validator, model_validator
 
 from calculators.binning import MAX_BINNING
 from calculators.schemas import Accessory, Camera, Geometry, Modifier, Mount, Strict, Telescope, one_currency
 from calculators.site import SiteUsed
-from calculators.train_elements import MAX_TRAIN_ELEMENTS, TrainElement, check_train, train_element
+from calculators.train_elements import (
+    MAX_TRAIN_ELEMENTS,
+    Eyepiece,
+    TrainElement,
+    check_train,
+    train_element,
+)
 
 #: Largest ``limit`` a request may ask for.
 MAX_LIMIT = 1000
@@ -122,6 +128,27 @@ class EvaluationSpec(Strict):
         return one_currency(value)
 
 
+def _eyepiece_kind(value: Any) -> Any:
+    # A candidate eyepiece may leave out the element's kind: it can only be "eyepiece".
+    if isinstance(value, dict) and "kind" not in value:
+        return {"kind": "eyepiece", **value}
+    return value
+
+
+#: One candidate eyepiece: the eyepiece train element (``kind`` optional), for visual combinations.
+EyepieceCandidate = Annotated[Eyepiece, BeforeValidator(_eyepiece_kind)]
+
+EYEPIECES_DESCRIPTION = (
+    'Candidate eyepieces, each as the eyepiece train element takes it ({"focal_length_mm", '
+    '"apparent_field_deg", "field_stop_mm", "eye_relief_mm", "name", "mass_kg", "price"}; "kind" '
+    'may be left out) or {"id": N} of a stored one: each telescope × train × eyepiece × mount is a '
+    "camera-free (visual) combination beside the imaging ones, its eyepiece ending the train. "
+    "`cameras` may be empty when eyepieces are given. Imaging-only outputs are null for visual "
+    "combinations (so a constraint on one leaves them infeasible) and the `visual` calculator's "
+    "are null for imaging ones."
+)
+
+
 #: One candidate train: its elements, telescope side first.
 Train = Annotated[list[TrainElement], Field(max_length=MAX_TRAIN_ELEMENTS)]
 
@@ -147,7 +174,9 @@ class InlineEvaluationRequest(EvaluationSpec):
     """A whole evaluation request with every component given inline."""
 
     telescopes: list[Telescope] = Field(min_length=1)
-    cameras: list[Camera] = Field(min_length=1)
+    cameras: list[Camera] = Field(
+        default_factory=list, description="Candidate cameras; may be empty when `eyepieces` are "
+        "given (or every train ends in an eyepiece).")
     modifiers: list[Modifier | None] | None = Field(
         default=None, min_length=1, deprecated=True,
         description="Deprecated (one release): each becomes a one-element train; null no train.",
@@ -159,6 +188,8 @@ class InlineEvaluationRequest(EvaluationSpec):
     mounts: list[Mount | None] = Field(
         default_factory=lambda: [None], min_length=1, description="null means no mount."
     )
+    eyepieces: list[EyepieceCandidate] = Field(default_factory=list, max_length=100,
+                                               description=EYEPIECES_DESCRIPTION)
 
     @field_validator("trains")
     @classmethod

@@ -20,7 +20,12 @@ from api.equipment.rules import SlotRequest, resolve_slots
 from api.http.problems import ApiProblem, FieldError, field_errors, field_path, from_validation_error
 from api.schemas import Ref, slot
 from calculators.batch import AXES
-from calculators.evaluation_schemas import EvaluationSpec, trains_from
+from calculators.evaluation_schemas import (
+    EYEPIECES_DESCRIPTION,
+    EvaluationSpec,
+    EyepieceCandidate,
+    trains_from,
+)
 from calculators.schemas import Camera, Modifier, Mount, Telescope
 from calculators.site import Site, SiteUsed, fill_params
 from calculators.train_elements import MAX_TRAIN_ELEMENTS, TrainElement, train_element
@@ -47,7 +52,8 @@ class EvaluationRequest(EvaluationSpec):
         min_length=1, description='Inline telescopes or {"id": N} of stored ones you may read.'
     )
     cameras: list[slot(Camera)] = Field(
-        min_length=1, description='Inline cameras or {"id": N} of stored ones you may read.'
+        default_factory=list, description='Inline cameras or {"id": N} of stored ones you may '
+        "read; may be empty when `eyepieces` are given (or every train ends in an eyepiece)."
     )
     modifiers: list[slot(Modifier) | None] | None = Field(
         default=None, min_length=1, deprecated=True,
@@ -63,6 +69,8 @@ class EvaluationRequest(EvaluationSpec):
         default_factory=lambda: [None], min_length=1,
         description='Inline mounts, {"id": N} of stored ones, or null for "no mount"; default: none.',
     )
+    eyepieces: list[slot(EyepieceCandidate)] = Field(
+        default_factory=list, max_length=100, description=EYEPIECES_DESCRIPTION)
     site: slot(Site) | None = Field(
         default=None, description='An observing site, inline or {"id": N}: its conditions fill the params '
         "of the same meaning of every calculator used that `params` does not state.",
@@ -122,7 +130,47 @@ def entries_of(body: EvaluationRequest, kind: str):
 
 
 def needs_database(body: EvaluationRequest) -> bool:
-    return any(isinstance(v, Ref) for kind in AXES for _, _, v in entries_of(body, kind))
+    return any(isinstance(v, Ref) for kind in AXES for _, _, v in entries_of(body, kind)) or \
+        any(isinstance(v, Ref) for v in body.eyepieces)
+
+
+def resolve_request(engine: Engine, principal: Principal | None, body: EvaluationRequest):
+    """The component lists, their ids (``"eyepiece"`` among them) and the candidate eyepieces, every
+    stored id resolved (inline ones as given)."""
+    if not needs_database(body):
+        return inline_components(body), None, list(body.eyepieces)
+    components, ids = resolve_components(engine, principal, body)
+    eyepieces, ids["eyepiece"] = resolve_eyepieces(engine, principal, body)
+    return components, ids, eyepieces
+
+
+def resolve_eyepieces(engine: Engine, principal: Principal | None,
+                      body: EvaluationRequest) -> tuple[list[Any], list[int | None]]:
+    """The candidate eyepieces with every ``{"id": N}`` replaced by the stored train element (which
+    must be an eyepiece), and their stored ids; 422 naming ``eyepieces.N.id`` otherwise."""
+    given = list(body.eyepieces)
+    ids = [v.id if isinstance(v, Ref) else None for v in given]
+    if not any(isinstance(v, Ref) for v in given):
+        return given, ids
+    with Session(engine) as session:
+        [specs] = resolve_slots(session, principal, [
+            SlotRequest({"train": given}, loc=("eyepieces",), slot_in_path=False)])
+    out = []
+    for i, (value, spec) in enumerate(zip(given, specs["train"])):
+        if not isinstance(value, Ref):
+            out.append(value)
+            continue
+        try:
+            element = train_element(spec)
+        except ValidationError as exc:  # a stored item written under an older schema
+            raise from_validation_error(exc, prefix=("eyepieces", i)) from None
+        if element.kind != "eyepiece":
+            message = f"train element {value.id} is a {element.kind}, not an eyepiece"
+            raise ApiProblem(422, f"eyepieces.{i}.id: {message}", title="Invalid input",
+                             type="/problems/invalid-input",
+                             errors=[FieldError(field=f"eyepieces.{i}.id", message=message)])
+        out.append(element)
+    return out, ids
 
 
 def inline_components(body: EvaluationRequest) -> Components:
@@ -174,6 +222,7 @@ def as_problem(exc: EvaluationError, counts: tuple[int, ...]) -> ApiProblem:
         errors = [FieldError(field=LISTS[kind], message=f"{n} given; {exc}")
                   for kind, n in zip(AXES, counts)]
         errors.append(FieldError(field="binning", message=f"each camera is swept at each factor; {exc}"))
+        errors.append(FieldError(field="eyepieces", message=f"each eyepiece adds a visual entry; {exc}"))
     else:
         errors = [FieldError(field=field_path(exc.loc) if exc.loc else "(body)", message=str(exc))]
     slug = re.sub(r"[^a-z0-9]+", "-", exc.title.lower()).strip("-")

@@ -38,13 +38,13 @@ from api.evaluations.request import (
 )
 from api.equipment.rules import SlotRequest, resolve_slots
 from api.http.problems import ApiProblem, FieldError, from_validation_error
-from api.schemas import Ref, Visible, refuse_nul
+from api.schemas import Ref, Visible, refuse_nul, slot
 from api.sites.conditions import read_site
 from api.storage import store
 from api.storage.models import CameraRow, MountRow, SavedEvaluationRow, TelescopeRow, TrainElementRow, Visibility
 from calculators.batch import AXES
 from calculators.evaluation_schemas import EvaluationResult
-from calculators.schemas import Name
+from calculators.schemas import Camera, Name
 from calculators.sweep import EvaluationError, evaluate_spec
 from calculators.train_elements import train_element
 
@@ -67,6 +67,19 @@ class SavedEvaluationCreate(EvaluationRequest):
     visibility: Visible = Visibility.private
 
     _name_has_no_nul = field_validator("name")(refuse_nul)
+
+    # The report page and re-runs show cameras: visual combinations are not kept yet.
+    cameras: list[slot(Camera)] = Field(
+        min_length=1, description='Inline cameras or {"id": N} of stored ones you may read (a '
+        "saved evaluation needs at least one; it does not keep eyepieces yet).")
+
+    @field_validator("eyepieces")
+    @classmethod
+    def _no_eyepieces(cls, value: list) -> list:
+        if value:
+            raise ValueError("a saved evaluation does not keep eyepieces yet; evaluate visual "
+                             "combinations with POST /v1/evaluations")
+        return value
 
 
 Status = Literal["unchanged", "changed", "retired", "gone"]

@@ -264,3 +264,17 @@ def test_against_a_server_stored_equipment_needs_the_key(server, make_account, r
     assert main(["evaluate", request_file(stored), "--url", server]) == 2
     err = capsys.readouterr().err
     assert err.startswith("error: 422") and "telescopes.1.id" in err
+
+
+def test_the_front_table_names_a_visual_rows_eyepiece_and_a_binned_rows_factor():
+    answer = {
+        "evaluated": 2, "feasible": 2, "units": {"x.y": ""}, "cautions": {}, "top": [],
+        "front": [{"indices": {"telescope": 0, "camera": None, "train": 0, "mount": 0, "binning": None,
+                               "eyepiece": 0}, "values": {"x.y": 1.0}, "score": None},
+                  {"indices": {"telescope": 0, "camera": 0, "train": 0, "mount": 0, "binning": 2,
+                               "eyepiece": None}, "values": {"x.y": 2.0}, "score": None}],
+    }
+    body = {"telescopes": [{"name": "scope"}], "cameras": [{"name": "cam"}],
+            "eyepieces": [{"name": "25 mm eyepiece"}]}
+    rows = table_rows(front_table(answer, body))
+    assert "25 mm eyepiece" in rows[0] and "cam (2×2 binned)" in rows[1]
