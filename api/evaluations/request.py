@@ -93,12 +93,9 @@ def sizes(body: EvaluationRequest) -> tuple[int, ...]:
 def check_size(body: EvaluationRequest, maximum: int) -> None:
     """Refuse a product above the maximum before reading anything from the database."""
     counts = sizes(body)
-    total = math.prod(counts)
-    if total > maximum:
+    if math.prod(counts) > maximum:
         raise as_problem(TooManyCombinations(
-            f"{' × '.join(map(str, counts))} = {total:,} combinations exceed the maximum of "
-            f"{maximum:,}; shorten a list of candidates",
-        ), counts)
+            {LISTS[kind]: n for kind, n in zip(AXES, counts)}, maximum), counts)
 
 
 def entries_of(body: EvaluationRequest, kind: str):
@@ -166,4 +163,8 @@ def as_problem(exc: EvaluationError, counts: tuple[int, ...]) -> ApiProblem:
     else:
         errors = [FieldError(field=field_path(exc.loc) if exc.loc else "(body)", message=str(exc))]
     slug = re.sub(r"[^a-z0-9]+", "-", exc.title.lower()).strip("-")
-    return ApiProblem(exc.status, str(exc), title=exc.title, type=f"/problems/{slug}", errors=errors)
+    extra = {}
+    if isinstance(exc, TooManyCombinations):  # the figures, for a program to read
+        extra = {"combinations": exc.combinations, "max_combinations": exc.maximum}
+    return ApiProblem(exc.status, str(exc), title=exc.title, type=f"/problems/{slug}", errors=errors,
+                      **extra)

@@ -87,11 +87,7 @@ def evaluate(
             raise EvaluationError(f"{kind}s: give at least one {kind}{hint}", loc=(f"{kind}s",))
     evaluated = math.prod(sizes)
     if evaluated > max_combinations:
-        raise TooManyCombinations(
-            f"{' × '.join(map(str, sizes))} = {evaluated:,} combinations exceed the maximum of "
-            f"{max_combinations:,}; shorten a list of candidates",
-            loc=(),
-        )
+        raise TooManyCombinations({f"{kind}s": n for kind, n in zip(AXES, sizes)}, max_combinations)
     base = baseline_indices(baseline, sizes)
     accessories, geometry = shared_parts(accessories, geometry)
     if isinstance(limit, bool) or not isinstance(limit, int) or limit < 0:

@@ -2,7 +2,8 @@
 
 from __future__ import annotations
 
-from collections.abc import Sequence
+import math
+from collections.abc import Mapping, Sequence
 
 from pydantic import ValidationError
 
@@ -33,7 +34,21 @@ class ContradictoryBounds(EvaluationError):
 
 
 class TooManyCombinations(EvaluationError):
+    """The product of the candidate lists is above the maximum; ``counts`` gives each list's length
+    (by the request's list name), ``combinations`` their product and ``maximum`` the limit."""
+
     title = "Too many combinations"
+
+    def __init__(self, counts: Mapping[str, int], maximum: int):
+        self.counts = dict(counts)
+        self.combinations = math.prod(self.counts.values())
+        self.maximum = maximum
+        asked = " × ".join(f"{name} ({n:,})" for name, n in self.counts.items())
+        super().__init__(
+            f"the request asks for {asked} = {self.combinations:,} combinations, more than the "
+            f"maximum of {maximum:,}; shorten a list of candidates",
+            loc=(),
+        )
 
 
 class FrontTooLarge(EvaluationError):
