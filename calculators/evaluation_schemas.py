@@ -13,8 +13,9 @@ from typing import Annotated, Any, Literal
 from pydantic import BaseModel, Field, ValidationInfo, field_validator, model_validator
 
 from calculators.schemas import Accessory, Camera, Geometry, Modifier, Mount, Strict, Telescope, one_currency
+from calculators.ownership import CandidateTrainElement, candidate_model
 from calculators.site import SiteUsed
-from calculators.train_elements import MAX_TRAIN_ELEMENTS, TrainElement, check_train, train_element
+from calculators.train_elements import MAX_TRAIN_ELEMENTS, check_train, train_element
 
 #: Largest ``limit`` a request may ask for.
 MAX_LIMIT = 1000
@@ -80,11 +81,12 @@ class EvaluationSpec(Strict):
         "against; default the first of each list.",
     )
     limit: int = Field(default=20, ge=0, le=MAX_LIMIT, description="How many rows `top` holds.")
-    accessories: list[Accessory] = Field(
+    accessories: list[candidate_model(Accessory)] = Field(
         default_factory=list, max_length=50,
         description="Items added to every combination, as a rig's `accessories` (finder, guide "
         "scope, dew heater…, each with its mass and price): they count in the payload and the "
-        "price of each combination, as they do in a stored or inline rig. Prices share one currency.",
+        "price of each combination, as they do in a stored or inline rig. Prices share one "
+        "currency; `owned: true` keeps one out of `cost.purchase_price`.",
     )
     geometry: Geometry | None = Field(
         default=None, description="Where the payload sits on a german-equatorial mount, as a "
@@ -99,12 +101,12 @@ class EvaluationSpec(Strict):
 
     @field_validator("accessories")
     @classmethod
-    def _accessories_share_a_currency(cls, value: list[Accessory]) -> list[Accessory]:
+    def _accessories_share_a_currency(cls, value: list) -> list:
         return one_currency(value)
 
 
-#: One candidate train: its elements, telescope side first.
-Train = Annotated[list[TrainElement], Field(max_length=MAX_TRAIN_ELEMENTS)]
+#: One candidate train: its elements, telescope side first (each may be marked ``owned``).
+Train = Annotated[list[CandidateTrainElement], Field(max_length=MAX_TRAIN_ELEMENTS)]
 
 
 def trains_from(value: list, info) -> list:
@@ -125,10 +127,10 @@ def trains_from(value: list, info) -> list:
 
 
 class InlineEvaluationRequest(EvaluationSpec):
-    """A whole evaluation request with every component given inline."""
+    """A whole evaluation request with every component given inline; any may be marked ``owned``."""
 
-    telescopes: list[Telescope] = Field(min_length=1)
-    cameras: list[Camera] = Field(min_length=1)
+    telescopes: list[candidate_model(Telescope)] = Field(min_length=1)
+    cameras: list[candidate_model(Camera)] = Field(min_length=1)
     modifiers: list[Modifier | None] | None = Field(
         default=None, min_length=1, deprecated=True,
         description="Deprecated (one release): each becomes a one-element train; null no train.",
@@ -137,7 +139,7 @@ class InlineEvaluationRequest(EvaluationSpec):
         default_factory=lambda: [[]], min_length=1, validate_default=True,
         description="Candidate trains; [] is nothing between telescope and camera.",
     )
-    mounts: list[Mount | None] = Field(
+    mounts: list[candidate_model(Mount) | None] = Field(
         default_factory=lambda: [None], min_length=1, description="null means no mount."
     )
 

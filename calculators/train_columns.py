@@ -27,6 +27,7 @@ from collections.abc import Sequence
 
 import numpy as np
 
+from calculators.ownership import purchase_sum
 from calculators.schemas import Design
 from calculators.train_elements import (
     DEFAULT_BACKFOCUS_TOLERANCE_MM,
@@ -42,7 +43,7 @@ DESIGN_ORDER: tuple[str, ...] = tuple(d.value for d in Design)
 ANY_DESIGN = (1 << len(DESIGN_ORDER)) - 1
 
 FLOAT_NAMES = (
-    "train_factor", "train_throughput", "train_mass_kg", "train_price",
+    "train_factor", "train_throughput", "train_mass_kg", "train_price", "train_purchase_price",
     "train_image_circle_mm", "train_corrected_field_mm",
     "train_focal_ratio_min", "train_focal_ratio_max",
     "train_backfocus_mm", "train_backfocus_tolerance_mm", "train_length_behind_mm",
@@ -124,6 +125,7 @@ def fold(train: Sequence) -> tuple[dict[str, float], dict[str, object]]:
         "train_throughput": math.prod(e.effective_throughput for e in optics),
         "train_mass_kg": _sum_or_nan(masses),
         "train_price": sum(p.amount for p in priced) if priced else NAN,
+        "train_purchase_price": purchase_sum(train),
         "train_image_circle_mm": min(circles, default=NAN),
         "train_corrected_field_mm": min(corrected, default=NAN),
         "train_focal_ratio_min": max(mins, default=NAN),
