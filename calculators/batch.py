@@ -42,7 +42,9 @@ train (empty: neutral)      ``train_factor`` (product of the factors, 1), ``trai
 camera (none: NaN, "")      ``pixel_size_um``, ``width_px``, ``height_px``, ``quantum_efficiency``,
                             ``read_noise_e``, ``dark_current_e_per_s``, ``camera_mass_kg``,
                             ``camera_price``, ``camera_currency``, ``flange_to_sensor_mm``,
-                            ``sensor`` ("mono", "colour" or "" when not stated)
+                            ``sensor`` ("mono", "colour" or "" when not stated), ``binning``
+                            (the factor the camera is read at, 1; the pixel columns stay the
+                            sensor's own, see :mod:`calculators.binning`)
 mount (none: NaN)           ``mount_type``, ``capacity_kg``, ``mount_mass_kg``, ``mount_price``,
                             ``mount_currency``
 accessories (summed)        ``accessories_mass_kg`` (0), ``accessories_price``, ``accessories_currency``
@@ -61,6 +63,7 @@ keeps its result on the batch, read-only, so the calculators that ask later get 
 from __future__ import annotations
 
 import functools
+import math
 from collections.abc import Callable, Iterator, Mapping, Sequence
 from dataclasses import dataclass, field
 from typing import Any, TypeVar
@@ -69,7 +72,7 @@ import numpy as np
 
 from calculators.ownership import is_owned, purchase_sum
 from calculators.schemas import Accessory, Camera, Geometry, Modifier, Mount, Price, Rig, Telescope
-from calculators.train_columns import train_columns
+from calculators.train_columns import train_columns, with_eyepiece_axis
 from calculators.train_elements import train_element
 
 NAN = float("nan")
@@ -131,8 +134,11 @@ def as_train(entry: Any) -> list:
     return [train_element(e) if isinstance(e, dict) else e for e in items]
 
 
-def camera_columns(cameras: Sequence[Camera | None]) -> dict[str, np.ndarray]:
-    """Camera columns; a rig without a camera (visual, through an eyepiece) has NaN and ""."""
+def camera_columns(
+    cameras: Sequence[Camera | None], binning: Sequence[int] | None = None
+) -> dict[str, np.ndarray]:
+    """Camera columns; a rig without a camera (visual, through an eyepiece) has NaN and "".
+    ``binning`` gives each camera's factor (default 1; see :mod:`calculators.binning`)."""
     absent = (NAN,) * 10
     rows = [
         absent if c is None else
@@ -149,6 +155,8 @@ def camera_columns(cameras: Sequence[Camera | None]) -> dict[str, np.ndarray]:
         ["" if c is None else _currency(c.price) for c in cameras], dtype="U3")
     columns["sensor"] = np.array(
         ["" if c is None or c.sensor is None else c.sensor.value for c in cameras], dtype=str)
+    columns["binning"] = (np.ones(len(cameras)) if binning is None
+                          else np.asarray(binning, dtype=np.float64).reshape(len(cameras)))
     return columns
 
 
@@ -285,7 +293,7 @@ class RigBatch(Mapping[str, np.ndarray]):
     @property
     def size(self) -> int:
         """Number of rigs (combinations) in the batch."""
-        return int(np.prod(self.shape))
+        return math.prod(self.shape)  # the same int as np.prod, without numpy's call overhead
 
     def at_baseline(self, values: np.ndarray) -> np.ndarray:
         """The baseline rig's element of an output computed from this batch's columns."""
@@ -311,7 +319,7 @@ class RigBatch(Mapping[str, np.ndarray]):
         columns = {
             **telescope_columns([r.telescope for r in rigs]),
             **train_columns([r.train for r in rigs]),
-            **camera_columns([r.camera for r in rigs]),
+            **camera_columns([r.camera for r in rigs], [r.binning for r in rigs]),
             **mount_columns([r.mount for r in rigs]),
             **rig_extra_columns(rigs),
         }
@@ -327,6 +335,9 @@ class RigBatch(Mapping[str, np.ndarray]):
         baseline: tuple[int, int, int, int] = (0, 0, 0, 0),
         accessories: Sequence[Accessory] = (),
         geometry: Geometry | None = None,
+        *,
+        binning: Sequence[int] | None = None,
+        eyepieces: Sequence[Any] | None = None,
     ) -> RigBatch:
         """A sweep batch: the cartesian product telescope × camera × train × mount, never built.
 
@@ -334,12 +345,21 @@ class RigBatch(Mapping[str, np.ndarray]):
         elements (see :func:`as_train`). ``accessories`` and ``geometry`` belong to every
         combination alike (their columns have one element, shape ``(1, 1, 1, 1)``), so a rig in a
         sweep carries the same payload, price and moments as the same rig compared on its own.
+
+        The camera axis may hold more than cameras (an evaluation's camera × binning pairs and its
+        eyepieces, see :mod:`calculators.sweep.detectors`): ``binning`` gives each entry's factor,
+        ``eyepieces`` each entry's eyepiece element (None for a camera; the camera is then None),
+        read as the last element of every train.
         """
         ndim = len(AXES)
+        train_cols = _along(train_columns([as_train(t) for t in trains]), 2, ndim)
+        if eyepieces is not None and any(e is not None for e in eyepieces):
+            ends = _along(train_columns([[] if e is None else [e] for e in eyepieces]), 1, ndim)
+            train_cols = with_eyepiece_axis(train_cols, ends)
         columns = {
             **_along(telescope_columns(telescopes), 0, ndim),
-            **_along(camera_columns(cameras), 1, ndim),
-            **_along(train_columns([as_train(t) for t in trains]), 2, ndim),
+            **_along(camera_columns(cameras, binning), 1, ndim),
+            **train_cols,
             **_along(mount_columns(mounts), 3, ndim),
         }
         shared = extra_columns([(list(accessories), geometry)])

@@ -12,6 +12,7 @@ from typing import Annotated, Any, Literal
 
 from pydantic import BaseModel, Field, ValidationInfo, field_validator, model_validator
 
+from calculators.binning import MAX_BINNING
 from calculators.schemas import Accessory, Camera, Geometry, Modifier, Mount, Strict, Telescope, one_currency
 from calculators.ownership import CandidateTrainElement, candidate_model
 from calculators.site import SiteUsed
@@ -31,12 +32,21 @@ class Bounds(Strict):
 
 
 class Indices(Strict):
-    """One combination, as an index into each of the request's component lists."""
+    """One combination, as an index into each of the request's component lists, with its binning
+    factor; a visual combination has an ``eyepiece`` index and no ``camera`` or ``binning``."""
 
     telescope: int = Field(default=0, ge=0)
-    camera: int = Field(default=0, ge=0)
+    camera: int | None = Field(default=0, ge=0, description="Position (from 0) in the request's "
+                               "cameras list; null for a visual combination (an eyepiece).")
     train: int = Field(default=0, ge=0)
     mount: int = Field(default=0, ge=0)
+    binning: int | None = Field(
+        default=None, ge=1, description="The binning factor the camera is read at (one of the "
+        "request's `binning`); null for a visual combination. In `baseline`: default the first "
+        "factor listed.")
+    eyepiece: int | None = Field(
+        default=None, ge=0, description="Position (from 0) in the request's eyepieces list, for a "
+        "visual combination (no camera); null for an imaging one.")
 
     @model_validator(mode="before")
     @classmethod
@@ -57,6 +67,8 @@ class Ids(BaseModel):
         default=None, description="One per element of the train (null for an inline element)."
     )
     mount: int | None = None
+    eyepiece: int | None = Field(default=None, description="Stored id of a visual combination's "
+                                 "eyepiece (null when inline, or for an imaging combination).")
 
 
 class EvaluationSpec(Strict):
@@ -81,6 +93,13 @@ class EvaluationSpec(Strict):
         "against; default the first of each list.",
     )
     limit: int = Field(default=20, ge=0, le=MAX_LIMIT, description="How many rows `top` holds.")
+    binning: list[Annotated[int, Field(ge=1, le=MAX_BINNING)]] = Field(
+        default_factory=lambda: [1], min_length=1, max_length=MAX_BINNING,
+        description="Binning factors to try, each a whole number 1-4 listed once: every camera is "
+        "swept at each (b × b pixels summed into one; sampling, target_fit and integration_time "
+        "honour it). Rows name theirs in `indices.binning`. Default [1].",
+        examples=[[1, 2]],
+    )
     accessories: list[candidate_model(Accessory)] = Field(
         default_factory=list, max_length=50,
         description="Items added to every combination, as a rig's `accessories` (finder, guide "

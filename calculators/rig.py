@@ -7,6 +7,7 @@ from __future__ import annotations
 
 from pydantic import Field, ValidationInfo, field_validator
 
+from calculators.binning import MAX_BINNING
 from calculators.schemas import (
     Accessory,
     Camera,
@@ -47,6 +48,11 @@ class Rig(Strict):
         default=None, validate_default=True,
         description="Needed unless the train ends in an eyepiece (then there is none).",
     )
+    binning: int = Field(
+        default=1, ge=1, le=MAX_BINNING,
+        description="Binning the camera is read at: b × b pixels summed into one (1: none; see "
+        "the sampling, target_fit and integration_time calculators). Only with a camera.",
+    )
     mount: Mount | None = None
     accessories: list[Accessory] = Field(default_factory=list, max_length=50)
     geometry: Geometry | None = None
@@ -74,6 +80,13 @@ class Rig(Strict):
             raise ValueError("a rig whose train ends in an eyepiece has no camera; drop one of them")
         if not eyepiece and value is None:
             raise ValueError("a rig needs a camera, or an eyepiece as the last element of its train")
+        return value
+
+    @field_validator("binning")
+    @classmethod
+    def _binning_needs_a_camera(cls, value: int, info: ValidationInfo) -> int:
+        if value != 1 and "camera" in info.data and info.data["camera"] is None:
+            raise ValueError("a rig without a camera has no pixels to bin; leave binning at 1")
         return value
 
     @field_validator("accessories")

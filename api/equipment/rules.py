@@ -300,6 +300,7 @@ def full_rig(body: BaseModel, slots: dict[str, Any], loc: tuple[Any, ...] = ()) 
         **slots,
         "accessories": body.accessories,
         "geometry": body.geometry,
+        "binning": getattr(body, "binning", 1),
     }
     try:
         return Rig.model_validate(data)

@@ -34,6 +34,7 @@ from calculators.schemas import Camera, Modifier, Mount, Telescope
 from calculators.site import Site, SiteUsed, fill_params
 from calculators.train_elements import MAX_TRAIN_ELEMENTS, TrainElement, train_element
 from calculators.sweep import EvaluationError, TooManyCombinations
+from calculators.sweep.detectors import product_text
 
 #: The request's list of each kind of component, in the engine's axis order.
 LISTS = {"telescope": "telescopes", "camera": "cameras", "train": "trains", "mount": "mounts"}
@@ -132,12 +133,23 @@ def sizes(body: EvaluationRequest) -> tuple[int, ...]:
     return tuple(len(getattr(body, LISTS[kind])) for kind in AXES)
 
 
+def combinations(body: EvaluationRequest) -> int:
+    """How many combinations the request asks for: telescopes × (cameras × binning factors +
+    eyepieces, or 1 for trains that end in their eyepiece) × trains × mounts."""
+    t, c, r, m = sizes(body)
+    eyepieces = len(getattr(body, "eyepieces", ()))
+    return t * (c * len(body.binning) + eyepieces or 1) * r * m
+
+
 def check_size(body: EvaluationRequest, maximum: int) -> None:
     """Refuse a product above the maximum before reading anything from the database."""
     counts = sizes(body)
-    if math.prod(counts) > maximum:
+    total = combinations(body)
+    if total > maximum:
+        factors, eyepieces = len(body.binning), len(getattr(body, "eyepieces", ()))
         raise as_problem(TooManyCombinations(
-            {LISTS[kind]: n for kind, n in zip(AXES, counts)}, maximum), counts)
+            product_text(counts, factors, eyepieces), total, maximum,
+            factors=factors, eyepieces=eyepieces), counts)
 
 
 def entries_of(body: EvaluationRequest, kind: str):
@@ -209,6 +221,7 @@ def as_problem(exc: EvaluationError, counts: tuple[int, ...]) -> ApiProblem:
     elif isinstance(exc, TooManyCombinations):  # no one field: every list adds to the product
         errors = [FieldError(field=LISTS[kind], message=f"{n} given; {exc}")
                   for kind, n in zip(AXES, counts)]
+        errors.append(FieldError(field="binning", message=f"each camera is swept at each factor; {exc}"))
     else:
         errors = [FieldError(field=field_path(exc.loc) if exc.loc else "(body)", message=str(exc))]
     slug = re.sub(r"[^a-z0-9]+", "-", exc.title.lower()).strip("-")

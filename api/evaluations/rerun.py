@@ -83,7 +83,12 @@ def rerun_components(row: SavedEvaluationRow, current: dict[tuple[str, int], Any
 
 def changes(saved: EvaluationResult, now: EvaluationResult) -> AnswerChanges:
     def key(row) -> tuple[int, ...]:
-        return tuple(getattr(row.indices, kind) for kind in AXES)
+        # A combination is also told apart by its binning factor (a result saved before binning
+        # existed reads as 1) and its eyepiece; sorted with -1 for "none".
+        ix = row.indices
+        return (*(-1 if getattr(ix, k) is None else getattr(ix, k) for k in AXES),
+                ix.binning or 1 if ix.eyepiece is None else -1,
+                -1 if ix.eyepiece is None else ix.eyepiece)
 
     before = {key(r): r for r in [*saved.front, *saved.top]}
     after = {key(r): r for r in [*now.front, *now.top]}
@@ -97,7 +102,8 @@ def changes(saved: EvaluationResult, now: EvaluationResult) -> AnswerChanges:
                 moved.append(ValueChange(indices=before[k].indices, key=name, saved=a, now=b))
 
     def indices(keys) -> list[Indices]:
-        return [Indices(**dict(zip(AXES, k))) for k in keys]
+        names = (*AXES, "binning", "eyepiece")
+        return [Indices(**{n: None if v == -1 else v for n, v in zip(names, k)}) for k in keys]
 
     was, is_now = set(front_before), set(front_after)
     return AnswerChanges(

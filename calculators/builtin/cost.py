@@ -92,7 +92,10 @@ def _first_currency(batch: RigBatch) -> str | None:
     """The currency of the first priced component found, or None if nothing is priced."""
     for _, _, currency, priced in _priced_slots(batch):
         # A price and its currency come from the same component, so they share a shape.
-        return str(np.broadcast_to(currency, priced.shape).flat[int(np.argmax(priced))])
+        # A comparison's columns share their shape already: a broadcast view would only cost.
+        if getattr(currency, "shape", None) != priced.shape:
+            currency = np.broadcast_to(currency, priced.shape)
+        return str(currency.flat[int(np.argmax(priced))])
     return None
 
 

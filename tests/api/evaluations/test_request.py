@@ -33,16 +33,23 @@ def test_too_many_combinations_names_each_list_the_product_and_the_limit(small_c
     problem = assert_problem(small_client.post("/v1/evaluations", json=request), 422,
                              "telescopes", "cameras", "trains", "mounts")
     assert problem["title"] == "Too many combinations"
-    assert (f"telescopes ({t}) × cameras ({c}) × trains ({r}) × mounts ({m}) = {asked} combinations"
-            in problem["detail"])
-    assert "maximum of 100" in problem["detail"]
+    assert (f"the request asks for {t} × {c} × {r} × {m} = {asked} combinations (telescopes × "
+            "cameras × trains × mounts), more than the maximum of 100" in problem["detail"])
     assert (problem["combinations"], problem["max_combinations"]) == (asked, 100)
 
 
 def test_the_old_modifiers_list_counts_as_the_trains(small_client):
     request = body(telescopes=[TELESCOPE] * 11, modifiers=[None] * 10)
     problem = assert_problem(small_client.post("/v1/evaluations", json=request), 422, "trains")
-    assert "trains (10)" in problem["detail"] and problem["combinations"] == 110
+    assert "11 × 1 × 10 × 1 = 110 combinations" in problem["detail"] and problem["combinations"] == 110
+
+
+def test_binning_factors_are_named_in_the_product(small_client):
+    request = body(telescopes=[TELESCOPE] * 12, cameras=[CAMERA] * 3, binning=[1, 2, 3])
+    problem = assert_problem(small_client.post("/v1/evaluations", json=request), 422, "cameras")
+    assert ("the request asks for 12 × (3 × 3) × 1 × 1 = 108 combinations (telescopes × (cameras × "
+            "binning factors) × trains × mounts), more than the maximum of 100" in problem["detail"])
+    assert problem["combinations"] == 108
 
 
 def test_at_the_limit_the_request_is_answered(small_client):
