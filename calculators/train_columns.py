@@ -181,8 +181,10 @@ def train_columns(trains: Sequence[Sequence]) -> dict[str, np.ndarray]:
     """Columns of shape ``(len(trains),)``; each train is a list of validated elements."""
     if len(trains) <= SMALL_BATCH_ROWS and not any(trains):
         # A comparison of rigs without a train: fresh copies (a calculator may own what it is
-        # given) of columns folded once, which costs a third of building them.
-        columns = {name: values.copy() for name, values in _no_train_columns(len(trains)).items()}
+        # given) of columns folded once per size, a third of the cost of building them.
+        table, others = _no_train_columns(len(trains))
+        columns = dict(zip(FLOAT_NAMES, table.copy()))  # one copy; each column a row of it
+        columns.update({name: values.copy() for name, values in others.items()})
     else:
         columns = _columns([fold(list(t)) if t else _nothing_folded() for t in trains])
     columns.update({old: columns[new] for old, new in OLD_ALIASES.items()})
@@ -191,8 +193,10 @@ def train_columns(trains: Sequence[Sequence]) -> dict[str, np.ndarray]:
 
 
 @cache
-def _no_train_columns(n: int) -> dict[str, np.ndarray]:
-    return _columns([_nothing_folded()] * n)
+def _no_train_columns(n: int) -> tuple[np.ndarray, dict[str, np.ndarray]]:
+    columns = _columns([_nothing_folded()] * n)
+    table = np.array([columns.pop(name) for name in FLOAT_NAMES])
+    return table, columns
 
 
 def _columns(folded: list[tuple[dict[str, float], dict[str, object]]]) -> dict[str, np.ndarray]:
