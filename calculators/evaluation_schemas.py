@@ -14,11 +14,11 @@ from pydantic import BaseModel, BeforeValidator, Field, ValidationInfo, field_va
 
 from calculators.binning import MAX_BINNING
 from calculators.schemas import Accessory, Camera, Geometry, Modifier, Mount, Strict, Telescope, one_currency
+from calculators.ownership import CandidateTrainElement, candidate_model
 from calculators.site import SiteUsed
 from calculators.train_elements import (
     MAX_TRAIN_ELEMENTS,
     Eyepiece,
-    TrainElement,
     check_train,
     train_element,
 )
@@ -105,11 +105,12 @@ class EvaluationSpec(Strict):
         "honour it). Rows name theirs in `indices.binning`. Default [1].",
         examples=[[1, 2]],
     )
-    accessories: list[Accessory] = Field(
+    accessories: list[candidate_model(Accessory)] = Field(
         default_factory=list, max_length=50,
         description="Items added to every combination, as a rig's `accessories` (finder, guide "
         "scope, dew heater…, each with its mass and price): they count in the payload and the "
-        "price of each combination, as they do in a stored or inline rig. Prices share one currency.",
+        "price of each combination, as they do in a stored or inline rig. Prices share one "
+        "currency; `owned: true` keeps one out of `cost.purchase_price`.",
     )
     geometry: Geometry | None = Field(
         default=None, description="Where the payload sits on a german-equatorial mount, as a "
@@ -124,7 +125,7 @@ class EvaluationSpec(Strict):
 
     @field_validator("accessories")
     @classmethod
-    def _accessories_share_a_currency(cls, value: list[Accessory]) -> list[Accessory]:
+    def _accessories_share_a_currency(cls, value: list) -> list:
         return one_currency(value)
 
 
@@ -149,8 +150,8 @@ EYEPIECES_DESCRIPTION = (
 )
 
 
-#: One candidate train: its elements, telescope side first.
-Train = Annotated[list[TrainElement], Field(max_length=MAX_TRAIN_ELEMENTS)]
+#: One candidate train: its elements, telescope side first (each may be marked ``owned``).
+Train = Annotated[list[CandidateTrainElement], Field(max_length=MAX_TRAIN_ELEMENTS)]
 
 
 def trains_from(value: list, info) -> list:
@@ -171,10 +172,10 @@ def trains_from(value: list, info) -> list:
 
 
 class InlineEvaluationRequest(EvaluationSpec):
-    """A whole evaluation request with every component given inline."""
+    """A whole evaluation request with every component given inline; any may be marked ``owned``."""
 
-    telescopes: list[Telescope] = Field(min_length=1)
-    cameras: list[Camera] = Field(
+    telescopes: list[candidate_model(Telescope)] = Field(min_length=1)
+    cameras: list[candidate_model(Camera)] = Field(
         default_factory=list, description="Candidate cameras; may be empty when `eyepieces` are "
         "given (or every train ends in an eyepiece).")
     modifiers: list[Modifier | None] | None = Field(
@@ -185,7 +186,7 @@ class InlineEvaluationRequest(EvaluationSpec):
         default_factory=lambda: [[]], min_length=1, validate_default=True,
         description="Candidate trains; [] is nothing between telescope and camera.",
     )
-    mounts: list[Mount | None] = Field(
+    mounts: list[candidate_model(Mount) | None] = Field(
         default_factory=lambda: [None], min_length=1, description="null means no mount."
     )
     eyepieces: list[EyepieceCandidate] = Field(default_factory=list, max_length=100,

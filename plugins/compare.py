@@ -5,6 +5,8 @@ from __future__ import annotations
 from collections.abc import Mapping, Sequence
 from typing import Any
 
+import numpy as np
+
 from calculators.batch import RigBatch
 from calculators.errors import RigbenchError
 from calculators.rig_cautions import rig_cautions
@@ -126,9 +128,8 @@ def comparison_tree(
     }
 
 
-def _json_values(values: Any) -> list:
+def _json_values(values: np.ndarray) -> list:
     """:func:`~plugins.runner.to_json_values`, integers as floats (what the result model makes of them)."""
-    out = to_json_values(values)
-    if getattr(values, "dtype", None) is not None and values.dtype.kind in "iu":
-        return [float(v) for v in out]
-    return out
+    if values.dtype.kind in "iu":  # a run's values are arrays (plugins.runner checks them)
+        return [float(v) for v in values.ravel().tolist()]
+    return to_json_values(values)

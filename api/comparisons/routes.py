@@ -57,7 +57,8 @@ async def create_comparison(body: ComparisonRequest, request: Request, caller: C
     third_party = registry.runs_third_party(names)
     if len(rigs) > THREADPOOL_RIGS:  # a heavy one: rate-limited, and under a heavy-request slot
         await rate_limits(request).count_compute(caller.key_id if caller else None, client_address(request))
-        tree = await run_heavy(request, budget_for(request, caller is not None), comparison_tree, *args, **kwargs)
+        budget = budget_for(request, caller is not None)
+        tree = await run_heavy(request, budget, comparison_tree, *args, **kwargs)
     elif third_party:
         tree = await run_in_threadpool(comparison_tree, *args, **kwargs)
     else:

@@ -134,7 +134,7 @@ def _local(body: dict[str, Any], settings: Settings, chunk_rows: int | None, *,
     from plugins.registry import load_registry
 
     def is_ref(entry: Any) -> bool:
-        return isinstance(entry, dict) and set(entry) == {"id"}
+        return isinstance(entry, dict) and "id" in entry and set(entry) <= {"id", "owned"}
 
     stored = [f"{name}.{i}" for name in LISTS for i, entry in enumerate(body.get(name) or ())
               if is_ref(entry)]

@@ -103,9 +103,8 @@ def evaluate(
     evaluated = math.prod(shape)
     if evaluated > max_combinations:
         raise TooManyCombinations(
-            f"{product_text(sizes, len(axis.factors), len(eyepieces))} = {evaluated:,} "
-            f"combinations exceed the maximum of {max_combinations:,}; shorten a list of candidates",
-            loc=(),
+            product_text(sizes, len(axis.factors), len(eyepieces)), evaluated, max_combinations,
+            factors=len(axis.factors), eyepieces=len(eyepieces),
         )
     base = baseline_indices(baseline, shape, axis)
     accessories, geometry = shared_parts(accessories, geometry)

@@ -172,7 +172,8 @@ def test_unreadable_files_and_bad_json_exit_2(tmp_path, capsys):
 def test_the_product_limit_setting_applies_in_process(request_file, capsys, monkeypatch):
     monkeypatch.setenv("RIGBENCH_MAX_COMBINATIONS", "10")
     assert main(["evaluate", request_file()]) == 2
-    assert "24 combinations exceed the maximum of 10" in capsys.readouterr().err
+    assert "= 24 combinations (telescopes × cameras × trains × mounts), more than the maximum of 10" \
+        in capsys.readouterr().err
 
 
 def test_the_front_table_names_stored_equipment_by_id_and_cuts_long_fronts():
