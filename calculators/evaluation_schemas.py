@@ -137,11 +137,11 @@ def _eyepiece_kind(value: Any) -> Any:
 
 
 #: One candidate eyepiece: the eyepiece train element (``kind`` optional), for visual combinations.
-EyepieceCandidate = Annotated[Eyepiece, BeforeValidator(_eyepiece_kind)]
+EyepieceCandidate = Annotated[candidate_model(Eyepiece), BeforeValidator(_eyepiece_kind)]
 
 EYEPIECES_DESCRIPTION = (
     'Candidate eyepieces, each as the eyepiece train element takes it ({"focal_length_mm", '
-    '"apparent_field_deg", "field_stop_mm", "eye_relief_mm", "name", "mass_kg", "price"}; "kind" '
+    '"apparent_field_deg", "field_stop_mm", "eye_relief_mm", "name", "mass_kg", "price", "owned"}; "kind" '
     'may be left out) or {"id": N} of a stored one: each telescope × train × eyepiece × mount is a '
     "camera-free (visual) combination beside the imaging ones, its eyepiece ending the train. "
     "`cameras` may be empty when eyepieces are given. Imaging-only outputs are null for visual "

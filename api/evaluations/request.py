@@ -111,7 +111,7 @@ class EvaluationRequest(EvaluationSpec):
         description='Inline mounts, {"id": N} of stored ones, or null for "no mount"; default: '
         "none. Each may say `owned`.",
     )
-    eyepieces: list[slot(EyepieceCandidate)] = Field(
+    eyepieces: list[candidate(EyepieceCandidate)] = Field(
         default_factory=list, max_length=100, description=EYEPIECES_DESCRIPTION)
     site: slot(Site) | None = Field(
         default=None, description='An observing site, inline or {"id": N}: its conditions fill the params '
@@ -193,9 +193,10 @@ def resolve_eyepieces(engine: Engine, principal: Principal | None,
     ids = [v.id if isinstance(v, Ref) else None for v in given]
     if not any(isinstance(v, Ref) for v in given):
         return given, ids
+    mine: set[tuple[str, int]] = set()
     with Session(engine) as session:
         [specs] = resolve_slots(session, principal, [
-            SlotRequest({"train": given}, loc=("eyepieces",), slot_in_path=False)])
+            SlotRequest({"train": given}, loc=("eyepieces",), slot_in_path=False)], mine=mine)
     out = []
     for i, (value, spec) in enumerate(zip(given, specs["train"])):
         if not isinstance(value, Ref):
@@ -210,7 +211,9 @@ def resolve_eyepieces(engine: Engine, principal: Principal | None,
             raise ApiProblem(422, f"eyepieces.{i}.id: {message}", title="Invalid input",
                              type="/problems/invalid-input",
                              errors=[FieldError(field=f"eyepieces.{i}.id", message=message)])
-        out.append(element)
+        # Owned: as the request says, else when it is stored under the caller's own account.
+        owned = value.owned if getattr(value, "owned", None) is not None else ("train", value.id) in mine
+        out.append(_marked(element, owned))
     return out, ids
 
 

@@ -224,3 +224,18 @@ def test_a_saved_evaluation_refuses_eyepieces_and_needs_a_camera(client, alice):
     body = {"name": "no camera", "telescopes": SCOPES, "objectives": VISUAL,
             "trains": [[{"kind": "eyepiece", "focal_length_mm": 25}]]}
     assert_problem(client.post("/v1/evaluations/saved", json=body, headers=alice.headers), 422, "cameras")
+
+
+def test_an_owned_eyepiece_stays_out_of_the_purchase_price_and_a_stored_one_of_mine_is_owned(client, alice):
+    scope = {**SCOPES[1]}  # 450 EUR
+    priced = {"focal_length_mm": 25, "price": {"amount": 60, "currency": "EUR"}}
+    keys = {"cost.purchase_price": "min", "cost.total_price": "min"}
+    body = {"telescopes": [scope], "eyepieces": [{**priced, "owned": True}, priced], "objectives": keys,
+            "limit": 10}
+    rows = {r["indices"]["eyepiece"]: r["values"] for r in evaluation(client, body)["top"]}
+    assert rows[0] == {"cost.purchase_price": 450.0, "cost.total_price": 510.0}
+    assert rows[1] == {"cost.purchase_price": 510.0, "cost.total_price": 510.0}
+    stored = client.post("/v1/train-elements", json={"kind": "eyepiece", **priced}, headers=alice.headers).json()
+    body["eyepieces"] = [{"id": stored["id"]}, {"id": stored["id"], "owned": False}]
+    rows = {r["indices"]["eyepiece"]: r["values"] for r in evaluation(client, body, headers=alice.headers)["top"]}
+    assert rows[0]["cost.purchase_price"] == 450.0 and rows[1]["cost.purchase_price"] == 510.0
