@@ -22,6 +22,7 @@ a caller who marks nothing.
 from __future__ import annotations
 
 import functools
+import math
 from collections.abc import Mapping, Sequence
 from typing import Annotated, Any, Union
 
@@ -69,7 +70,7 @@ def purchase_sum(items: Sequence) -> float:
     """Summed price of the parts not marked owned (NaN when none of them is priced), added in the
     same order as their whole price is, so it is that very number when nothing is owned."""
     priced = [i.price.amount for i in items if i.price is not None and not is_owned(i)]
-    return sum(priced) if priced else float("nan")
+    return sum(priced) if priced else math.nan  # one NaN object, as the other folded values
 
 
 def as_owned(item: BaseModel, owned: bool = True) -> BaseModel:
