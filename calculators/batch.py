@@ -51,7 +51,9 @@ accessories (summed)        ``accessories_mass_kg`` (0), ``accessories_price``, 
 geometry                    ``payload_arm_mm``, ``counterweight_kg``
 ==========================  =====================================================================
 
-Price columns come in pairs: ``<slot>_price`` (NaN when unpriced) and ``<slot>_currency``.
+Price columns come in threes: ``<slot>_price`` (NaN when unpriced), ``<slot>_currency`` and
+``<slot>_purchase_price``, the price of the slot's parts not marked owned (NaN when none of those is
+priced; see :mod:`calculators.ownership`): equal to ``<slot>_price`` when nothing is owned.
 
 Quantities that several calculators derive from the same columns (clear area, effective focal length,
 sensor size, field solid angle) are computed once per batch: a helper decorated with :func:`per_batch`
@@ -68,6 +70,7 @@ from typing import Any, TypeVar
 
 import numpy as np
 
+from calculators.ownership import is_owned, purchase_sum
 from calculators.schemas import Accessory, Camera, Geometry, Modifier, Mount, Price, Rig, Telescope
 from calculators.train_columns import train_columns, with_eyepiece_axis
 from calculators.train_elements import train_element
@@ -89,6 +92,11 @@ def _currency(price: Price | None) -> str:
     return "" if price is None else price.currency
 
 
+def _purchase(item) -> float:
+    """The price still to pay for a part: NaN when it is owned or unpriced."""
+    return NAN if is_owned(item) else _amount(item.price)
+
+
 def _opt(value: float | None) -> float:
     return NAN if value is None else float(value)
 
@@ -99,7 +107,7 @@ def telescope_columns(telescopes: Sequence[Telescope]) -> dict[str, np.ndarray]:
             t.aperture_mm, t.focal_length_mm, t.obstruction_mm, t.effective_throughput,
             _opt(t.mass_kg), _opt(t.length_mm), _opt(t.tube_diameter_mm), _opt(t.spider_vanes),
             _opt(t.mirror_thickness_mm), _amount(t.price), _opt(t.image_circle_mm),
-            _opt(t.outward_focus_travel_mm),
+            _opt(t.outward_focus_travel_mm), _purchase(t),
         )
         for t in telescopes
     ]
@@ -107,7 +115,7 @@ def telescope_columns(telescopes: Sequence[Telescope]) -> dict[str, np.ndarray]:
         "aperture_mm", "focal_length_mm", "obstruction_mm", "telescope_throughput",
         "telescope_mass_kg", "tube_length_mm", "tube_diameter_mm", "spider_vanes",
         "mirror_thickness_mm", "telescope_price", "telescope_image_circle_mm",
-        "outward_focus_travel_mm",
+        "outward_focus_travel_mm", "telescope_purchase_price",
     )
     columns = _float_columns(names, rows, len(telescopes))
     columns["design"] = np.array([t.design.value for t in telescopes], dtype=str)
@@ -131,16 +139,17 @@ def camera_columns(
 ) -> dict[str, np.ndarray]:
     """Camera columns; a rig without a camera (visual, through an eyepiece) has NaN and "".
     ``binning`` gives each camera's factor (default 1; see :mod:`calculators.binning`)."""
-    absent = (NAN,) * 9
+    absent = (NAN,) * 10
     rows = [
         absent if c is None else
         (c.pixel_size_um, c.width_px, c.height_px, _opt(c.quantum_efficiency), _opt(c.read_noise_e),
          _opt(c.dark_current_e_per_s), _opt(c.mass_kg), _amount(c.price),
-         _opt(c.flange_to_sensor_mm))
+         _opt(c.flange_to_sensor_mm), _purchase(c))
         for c in cameras
     ]
     names = ("pixel_size_um", "width_px", "height_px", "quantum_efficiency", "read_noise_e",
-             "dark_current_e_per_s", "camera_mass_kg", "camera_price", "flange_to_sensor_mm")
+             "dark_current_e_per_s", "camera_mass_kg", "camera_price", "flange_to_sensor_mm",
+             "camera_purchase_price")
     columns = _float_columns(names, rows, len(cameras))
     columns["camera_currency"] = np.array(
         ["" if c is None else _currency(c.price) for c in cameras], dtype="U3")
@@ -153,10 +162,12 @@ def camera_columns(
 
 def mount_columns(mounts: Sequence[Mount | None]) -> dict[str, np.ndarray]:
     rows = [
-        (NAN, NAN, NAN) if m is None else (m.capacity_kg, _opt(m.mass_kg), _amount(m.price))
+        (NAN, NAN, NAN, NAN) if m is None else
+        (m.capacity_kg, _opt(m.mass_kg), _amount(m.price), _purchase(m))
         for m in mounts
     ]
-    columns = _float_columns(("capacity_kg", "mount_mass_kg", "mount_price"), rows, len(mounts))
+    columns = _float_columns(("capacity_kg", "mount_mass_kg", "mount_price", "mount_purchase_price"),
+                             rows, len(mounts))
     columns["mount_type"] = np.array(["" if m is None else m.type.value for m in mounts], dtype=str)
     columns["mount_currency"] = np.array(
         ["" if m is None else _currency(m.price) for m in mounts], dtype="U3"
@@ -180,8 +191,10 @@ def extra_columns(rows_in: Sequence[tuple[Sequence[Accessory], Geometry | None]]
         rows.append((
             sum(a.mass_kg for a in accessories), price,
             NAN if g is None else g.payload_arm_mm, NAN if g is None else g.counterweight_kg,
+            purchase_sum(accessories),
         ))
-    names = ("accessories_mass_kg", "accessories_price", "payload_arm_mm", "counterweight_kg")
+    names = ("accessories_mass_kg", "accessories_price", "payload_arm_mm", "counterweight_kg",
+             "accessories_purchase_price")
     columns = _float_columns(names, rows, len(rows_in))
     columns["accessories_currency"] = np.array(currencies, dtype="U3")
     return columns

@@ -10,12 +10,18 @@ from __future__ import annotations
 
 from typing import Annotated, Any, Literal
 
-from pydantic import BaseModel, Field, ValidationInfo, field_validator, model_validator
+from pydantic import BaseModel, BeforeValidator, Field, ValidationInfo, field_validator, model_validator
 
 from calculators.binning import MAX_BINNING
 from calculators.schemas import Accessory, Camera, Geometry, Modifier, Mount, Strict, Telescope, one_currency
+from calculators.ownership import CandidateTrainElement, candidate_model
 from calculators.site import SiteUsed
-from calculators.train_elements import MAX_TRAIN_ELEMENTS, TrainElement, check_train, train_element
+from calculators.train_elements import (
+    MAX_TRAIN_ELEMENTS,
+    Eyepiece,
+    check_train,
+    train_element,
+)
 
 #: Largest ``limit`` a request may ask for.
 MAX_LIMIT = 1000
@@ -99,11 +105,12 @@ class EvaluationSpec(Strict):
         "honour it). Rows name theirs in `indices.binning`. Default [1].",
         examples=[[1, 2]],
     )
-    accessories: list[Accessory] = Field(
+    accessories: list[candidate_model(Accessory)] = Field(
         default_factory=list, max_length=50,
         description="Items added to every combination, as a rig's `accessories` (finder, guide "
         "scope, dew heater…, each with its mass and price): they count in the payload and the "
-        "price of each combination, as they do in a stored or inline rig. Prices share one currency.",
+        "price of each combination, as they do in a stored or inline rig. Prices share one "
+        "currency; `owned: true` keeps one out of `cost.purchase_price`.",
     )
     geometry: Geometry | None = Field(
         default=None, description="Where the payload sits on a german-equatorial mount, as a "
@@ -118,12 +125,33 @@ class EvaluationSpec(Strict):
 
     @field_validator("accessories")
     @classmethod
-    def _accessories_share_a_currency(cls, value: list[Accessory]) -> list[Accessory]:
+    def _accessories_share_a_currency(cls, value: list) -> list:
         return one_currency(value)
 
 
-#: One candidate train: its elements, telescope side first.
-Train = Annotated[list[TrainElement], Field(max_length=MAX_TRAIN_ELEMENTS)]
+def _eyepiece_kind(value: Any) -> Any:
+    # A candidate eyepiece may leave out the element's kind: it can only be "eyepiece".
+    if isinstance(value, dict) and "kind" not in value:
+        return {"kind": "eyepiece", **value}
+    return value
+
+
+#: One candidate eyepiece: the eyepiece train element (``kind`` optional), for visual combinations.
+EyepieceCandidate = Annotated[candidate_model(Eyepiece), BeforeValidator(_eyepiece_kind)]
+
+EYEPIECES_DESCRIPTION = (
+    'Candidate eyepieces, each as the eyepiece train element takes it ({"focal_length_mm", '
+    '"apparent_field_deg", "field_stop_mm", "eye_relief_mm", "name", "mass_kg", "price", "owned"}; "kind" '
+    'may be left out) or {"id": N} of a stored one: each telescope × train × eyepiece × mount is a '
+    "camera-free (visual) combination beside the imaging ones, its eyepiece ending the train. "
+    "`cameras` may be empty when eyepieces are given. Imaging-only outputs are null for visual "
+    "combinations (so a constraint on one leaves them infeasible) and the `visual` calculator's "
+    "are null for imaging ones."
+)
+
+
+#: One candidate train: its elements, telescope side first (each may be marked ``owned``).
+Train = Annotated[list[CandidateTrainElement], Field(max_length=MAX_TRAIN_ELEMENTS)]
 
 
 def trains_from(value: list, info) -> list:
@@ -144,10 +172,12 @@ def trains_from(value: list, info) -> list:
 
 
 class InlineEvaluationRequest(EvaluationSpec):
-    """A whole evaluation request with every component given inline."""
+    """A whole evaluation request with every component given inline; any may be marked ``owned``."""
 
-    telescopes: list[Telescope] = Field(min_length=1)
-    cameras: list[Camera] = Field(min_length=1)
+    telescopes: list[candidate_model(Telescope)] = Field(min_length=1)
+    cameras: list[candidate_model(Camera)] = Field(
+        default_factory=list, description="Candidate cameras; may be empty when `eyepieces` are "
+        "given (or every train ends in an eyepiece).")
     modifiers: list[Modifier | None] | None = Field(
         default=None, min_length=1, deprecated=True,
         description="Deprecated (one release): each becomes a one-element train; null no train.",
@@ -156,9 +186,11 @@ class InlineEvaluationRequest(EvaluationSpec):
         default_factory=lambda: [[]], min_length=1, validate_default=True,
         description="Candidate trains; [] is nothing between telescope and camera.",
     )
-    mounts: list[Mount | None] = Field(
+    mounts: list[candidate_model(Mount) | None] = Field(
         default_factory=lambda: [None], min_length=1, description="null means no mount."
     )
+    eyepieces: list[EyepieceCandidate] = Field(default_factory=list, max_length=100,
+                                               description=EYEPIECES_DESCRIPTION)
 
     @field_validator("trains")
     @classmethod

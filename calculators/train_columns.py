@@ -28,6 +28,7 @@ from functools import cache
 
 import numpy as np
 
+from calculators.ownership import purchase_sum
 from calculators.schemas import Design
 from calculators.train_elements import (
     DEFAULT_BACKFOCUS_TOLERANCE_MM,
@@ -43,7 +44,7 @@ DESIGN_ORDER: tuple[str, ...] = tuple(d.value for d in Design)
 ANY_DESIGN = (1 << len(DESIGN_ORDER)) - 1
 
 FLOAT_NAMES = (
-    "train_factor", "train_throughput", "train_mass_kg", "train_price",
+    "train_factor", "train_throughput", "train_mass_kg", "train_price", "train_purchase_price",
     "train_image_circle_mm", "train_corrected_field_mm",
     "train_focal_ratio_min", "train_focal_ratio_max",
     "train_backfocus_mm", "train_backfocus_tolerance_mm", "train_length_behind_mm",
@@ -125,6 +126,7 @@ def fold(train: Sequence) -> tuple[dict[str, float], dict[str, object]]:
         "train_throughput": math.prod(e.effective_throughput for e in optics),
         "train_mass_kg": _sum_or_nan(masses),
         "train_price": sum(p.amount for p in priced) if priced else NAN,
+        "train_purchase_price": purchase_sum(train),
         "train_image_circle_mm": min(circles, default=NAN),
         "train_corrected_field_mm": min(corrected, default=NAN),
         "train_focal_ratio_min": max(mins, default=NAN),
@@ -235,6 +237,8 @@ def with_eyepiece_axis(trains: dict[str, np.ndarray], eyepieces: dict[str, np.nd
     out["train_has_eyepiece"] = trains["train_has_eyepiece"] | eyepieces["train_has_eyepiece"]
     out["train_mass_kg"] = trains["train_mass_kg"] + eyepieces["train_mass_kg"]
     out["train_price"] = _add_prices(trains["train_price"], eyepieces["train_price"])
+    out["train_purchase_price"] = _add_prices(trains["train_purchase_price"],
+                                              eyepieces["train_purchase_price"])
     out["train_currency"] = np.where(trains["train_currency"] == "", eyepieces["train_currency"],
                                      trains["train_currency"])
     out["train_elements"] = trains["train_elements"] + eyepieces["train_elements"]

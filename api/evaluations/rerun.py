@@ -20,6 +20,7 @@ from api.evaluations.saved import (
 from api.storage.models import SavedEvaluationRow
 from calculators.batch import AXES
 from calculators.evaluation_schemas import EvaluationResult, Indices
+from calculators.ownership import as_owned, is_owned
 
 #: Most value changes listed in a re-run's answer (the whole new answer is there too).
 MAX_VALUE_CHANGES = 200
@@ -63,10 +64,13 @@ def rerun_components(row: SavedEvaluationRow, current: dict[tuple[str, int], Any
     the stored id of each entry (None for inline ones)."""
     lists = saved_components(row)
     for (kind, index, position), model in current.items():
+        # Owned as it was when saved (the request said so, or it was the saver's own item).
         if position is None:
-            lists[AXES.index(kind)][index] = model
+            was = lists[AXES.index(kind)][index]
+            lists[AXES.index(kind)][index] = as_owned(model, is_owned(was))
         else:  # an element of a train
-            lists[AXES.index(kind)][index][position] = model
+            was = lists[AXES.index(kind)][index][position]
+            lists[AXES.index(kind)][index][position] = as_owned(model, is_owned(was))
     ids = {kind: [None] * len(items) for kind, items in zip(AXES, lists)}
     ids["train"] = [[None] * len(train) for train in lists[AXES.index("train")]]
     for entry in row.spec.get("stored", []):

@@ -103,9 +103,8 @@ def evaluate(
     evaluated = math.prod(shape)
     if evaluated > max_combinations:
         raise TooManyCombinations(
-            f"{product_text(sizes, len(axis.factors), len(eyepieces))} = {evaluated:,} "
-            f"combinations exceed the maximum of {max_combinations:,}; shorten a list of candidates",
-            loc=(),
+            product_text(sizes, len(axis.factors), len(eyepieces)), evaluated, max_combinations,
+            factors=len(axis.factors), eyepieces=len(eyepieces),
         )
     base = baseline_indices(baseline, shape, axis)
     accessories, geometry = shared_parts(accessories, geometry)
@@ -120,6 +119,10 @@ def evaluate(
     bounds, directions, nullable, plans = plan_calculators(
         constraints or {}, objectives, params or {}, calculators
     )
+    if any(c is None for c in axis.cameras):
+        # Visual combinations have no pixels: an imaging output is undefined (null) for them,
+        # which makes them infeasible rather than the calculator broken.
+        nullable = set(directions)
 
     batch = RigBatch.from_components(lists[0], axis.cameras, lists[2], lists[3], baseline=base,
                                      binning=axis.binning, eyepieces=axis.eyepieces,
@@ -238,6 +241,8 @@ def evaluate_spec(
 ) -> EvaluationResult:
     """:func:`evaluate` with the choices of a validated request model (``options``: calculators,
     ids, max_combinations, chunk_rows, progress, max_front_rows, eyepieces)."""
+    # An inline request's eyepieces (a service passes them resolved, stored ids read).
+    options.setdefault("eyepieces", getattr(spec, "eyepieces", ()))
     return evaluate(
         telescopes, cameras, trains, mounts,
         objectives=spec.objectives, constraints=spec.constraints, params=spec.params,
