@@ -46,7 +46,8 @@ CLUB_EQUIPMENT: dict[str, tuple[Resource, dict[str, Any]]] = {
     "dobsonian_200": (resources.TELESCOPES, {
         "name": "200 mm f/6 dobsonian tube", "design": "newtonian", "aperture_mm": 200, "focal_length_mm": 1200,
         "obstruction_mm": 50, "mass_kg": 9.5, "length_mm": 1180, "tube_diameter_mm": 240,
-        "spider_vanes": 4, "mirror_thickness_mm": 25, "price": _price(450),
+        "spider_vanes": 4, "mirror_thickness_mm": 25, "image_circle_mm": 18,
+        "outward_focus_travel_mm": 45, "price": _price(450),
     }),
     "coma_corrector": (resources.TRAIN_ELEMENTS, {
         "name": "coma corrector 1.0x", "kind": "corrector", "factor": 1.0, "mass_kg": 0.4,

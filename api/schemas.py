@@ -25,6 +25,7 @@ from pydantic import (
 
 from api.http.problems import FieldError
 from api.storage.models import AccountKind, KeyScope, Visibility
+from calculators.binning import MAX_BINNING
 from calculators.schemas import (
     Accessory,
     Camera,
@@ -256,6 +257,11 @@ class RigSlots(Strict):
     )
     camera: slot(Camera) | None = Field(
         default=None, description="Needed unless the train ends in an eyepiece."
+    )
+    binning: int = Field(
+        default=1, ge=1, le=MAX_BINNING,
+        description="Binning the camera is read at: b × b pixels summed into one (1: none). "
+        "Only with a camera.",
     )
     mount: slot(Mount) | None = None
     accessories: list[Accessory] = Field(default_factory=list, max_length=50)

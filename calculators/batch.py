@@ -42,14 +42,18 @@ train (empty: neutral)      ``train_factor`` (product of the factors, 1), ``trai
 camera (none: NaN, "")      ``pixel_size_um``, ``width_px``, ``height_px``, ``quantum_efficiency``,
                             ``read_noise_e``, ``dark_current_e_per_s``, ``camera_mass_kg``,
                             ``camera_price``, ``camera_currency``, ``flange_to_sensor_mm``,
-                            ``sensor`` ("mono", "colour" or "" when not stated)
+                            ``sensor`` ("mono", "colour" or "" when not stated), ``binning``
+                            (the factor the camera is read at, 1; the pixel columns stay the
+                            sensor's own, see :mod:`calculators.binning`)
 mount (none: NaN)           ``mount_type``, ``capacity_kg``, ``mount_mass_kg``, ``mount_price``,
                             ``mount_currency``
 accessories (summed)        ``accessories_mass_kg`` (0), ``accessories_price``, ``accessories_currency``
 geometry                    ``payload_arm_mm``, ``counterweight_kg``
 ==========================  =====================================================================
 
-Price columns come in pairs: ``<slot>_price`` (NaN when unpriced) and ``<slot>_currency``.
+Price columns come in threes: ``<slot>_price`` (NaN when unpriced), ``<slot>_currency`` and
+``<slot>_purchase_price``, the price of the slot's parts not marked owned (NaN when none of those is
+priced; see :mod:`calculators.ownership`): equal to ``<slot>_price`` when nothing is owned.
 
 Quantities that several calculators derive from the same columns (clear area, effective focal length,
 sensor size, field solid angle) are computed once per batch: a helper decorated with :func:`per_batch`
@@ -59,14 +63,16 @@ keeps its result on the batch, read-only, so the calculators that ask later get 
 from __future__ import annotations
 
 import functools
+import math
 from collections.abc import Callable, Iterator, Mapping, Sequence
 from dataclasses import dataclass, field
 from typing import Any, TypeVar
 
 import numpy as np
 
-from calculators.schemas import Camera, Modifier, Mount, Price, Rig, Telescope
-from calculators.train_columns import train_columns
+from calculators.ownership import is_owned, purchase_sum
+from calculators.schemas import Accessory, Camera, Geometry, Modifier, Mount, Price, Rig, Telescope
+from calculators.train_columns import train_columns, with_eyepiece_axis
 from calculators.train_elements import train_element
 
 NAN = float("nan")
@@ -86,6 +92,11 @@ def _currency(price: Price | None) -> str:
     return "" if price is None else price.currency
 
 
+def _purchase(item) -> float:
+    """The price still to pay for a part: NaN when it is owned or unpriced."""
+    return NAN if is_owned(item) else _amount(item.price)
+
+
 def _opt(value: float | None) -> float:
     return NAN if value is None else float(value)
 
@@ -96,7 +107,7 @@ def telescope_columns(telescopes: Sequence[Telescope]) -> dict[str, np.ndarray]:
             t.aperture_mm, t.focal_length_mm, t.obstruction_mm, t.effective_throughput,
             _opt(t.mass_kg), _opt(t.length_mm), _opt(t.tube_diameter_mm), _opt(t.spider_vanes),
             _opt(t.mirror_thickness_mm), _amount(t.price), _opt(t.image_circle_mm),
-            _opt(t.outward_focus_travel_mm),
+            _opt(t.outward_focus_travel_mm), _purchase(t),
         )
         for t in telescopes
     ]
@@ -104,7 +115,7 @@ def telescope_columns(telescopes: Sequence[Telescope]) -> dict[str, np.ndarray]:
         "aperture_mm", "focal_length_mm", "obstruction_mm", "telescope_throughput",
         "telescope_mass_kg", "tube_length_mm", "tube_diameter_mm", "spider_vanes",
         "mirror_thickness_mm", "telescope_price", "telescope_image_circle_mm",
-        "outward_focus_travel_mm",
+        "outward_focus_travel_mm", "telescope_purchase_price",
     )
     columns = _float_columns(names, rows, len(telescopes))
     columns["design"] = np.array([t.design.value for t in telescopes], dtype=str)
@@ -123,32 +134,40 @@ def as_train(entry: Any) -> list:
     return [train_element(e) if isinstance(e, dict) else e for e in items]
 
 
-def camera_columns(cameras: Sequence[Camera | None]) -> dict[str, np.ndarray]:
-    """Camera columns; a rig without a camera (visual, through an eyepiece) has NaN and ""."""
-    absent = (NAN,) * 9
+def camera_columns(
+    cameras: Sequence[Camera | None], binning: Sequence[int] | None = None
+) -> dict[str, np.ndarray]:
+    """Camera columns; a rig without a camera (visual, through an eyepiece) has NaN and "".
+    ``binning`` gives each camera's factor (default 1; see :mod:`calculators.binning`)."""
+    absent = (NAN,) * 10
     rows = [
         absent if c is None else
         (c.pixel_size_um, c.width_px, c.height_px, _opt(c.quantum_efficiency), _opt(c.read_noise_e),
          _opt(c.dark_current_e_per_s), _opt(c.mass_kg), _amount(c.price),
-         _opt(c.flange_to_sensor_mm))
+         _opt(c.flange_to_sensor_mm), _purchase(c))
         for c in cameras
     ]
     names = ("pixel_size_um", "width_px", "height_px", "quantum_efficiency", "read_noise_e",
-             "dark_current_e_per_s", "camera_mass_kg", "camera_price", "flange_to_sensor_mm")
+             "dark_current_e_per_s", "camera_mass_kg", "camera_price", "flange_to_sensor_mm",
+             "camera_purchase_price")
     columns = _float_columns(names, rows, len(cameras))
     columns["camera_currency"] = np.array(
         ["" if c is None else _currency(c.price) for c in cameras], dtype="U3")
     columns["sensor"] = np.array(
         ["" if c is None or c.sensor is None else c.sensor.value for c in cameras], dtype=str)
+    columns["binning"] = (np.ones(len(cameras)) if binning is None
+                          else np.asarray(binning, dtype=np.float64).reshape(len(cameras)))
     return columns
 
 
 def mount_columns(mounts: Sequence[Mount | None]) -> dict[str, np.ndarray]:
     rows = [
-        (NAN, NAN, NAN) if m is None else (m.capacity_kg, _opt(m.mass_kg), _amount(m.price))
+        (NAN, NAN, NAN, NAN) if m is None else
+        (m.capacity_kg, _opt(m.mass_kg), _amount(m.price), _purchase(m))
         for m in mounts
     ]
-    columns = _float_columns(("capacity_kg", "mount_mass_kg", "mount_price"), rows, len(mounts))
+    columns = _float_columns(("capacity_kg", "mount_mass_kg", "mount_price", "mount_purchase_price"),
+                             rows, len(mounts))
     columns["mount_type"] = np.array(["" if m is None else m.type.value for m in mounts], dtype=str)
     columns["mount_currency"] = np.array(
         ["" if m is None else _currency(m.price) for m in mounts], dtype="U3"
@@ -158,19 +177,25 @@ def mount_columns(mounts: Sequence[Mount | None]) -> dict[str, np.ndarray]:
 
 def rig_extra_columns(rigs: Sequence[Rig]) -> dict[str, np.ndarray]:
     """Accessories (summed per rig) and german-equatorial geometry."""
+    return extra_columns([(rig.accessories, rig.geometry) for rig in rigs])
+
+
+def extra_columns(rows_in: Sequence[tuple[Sequence[Accessory], Geometry | None]]) -> dict[str, np.ndarray]:
+    """Accessories (summed) and geometry columns, one entry per ``(accessories, geometry)`` pair."""
     rows = []
     currencies = []
-    for rig in rigs:
-        priced = [a.price for a in rig.accessories if a.price is not None]
+    for accessories, g in rows_in:
+        priced = [a.price for a in accessories if a.price is not None]
         price = sum(p.amount for p in priced) if priced else NAN
         currencies.append(priced[0].currency if priced else "")
-        g = rig.geometry
         rows.append((
-            sum(a.mass_kg for a in rig.accessories), price,
+            sum(a.mass_kg for a in accessories), price,
             NAN if g is None else g.payload_arm_mm, NAN if g is None else g.counterweight_kg,
+            purchase_sum(accessories),
         ))
-    names = ("accessories_mass_kg", "accessories_price", "payload_arm_mm", "counterweight_kg")
-    columns = _float_columns(names, rows, len(rigs))
+    names = ("accessories_mass_kg", "accessories_price", "payload_arm_mm", "counterweight_kg",
+             "accessories_purchase_price")
+    columns = _float_columns(names, rows, len(rows_in))
     columns["accessories_currency"] = np.array(currencies, dtype="U3")
     return columns
 
@@ -268,7 +293,7 @@ class RigBatch(Mapping[str, np.ndarray]):
     @property
     def size(self) -> int:
         """Number of rigs (combinations) in the batch."""
-        return int(np.prod(self.shape))
+        return math.prod(self.shape)  # the same int as np.prod, without numpy's call overhead
 
     def at_baseline(self, values: np.ndarray) -> np.ndarray:
         """The baseline rig's element of an output computed from this batch's columns."""
@@ -294,7 +319,7 @@ class RigBatch(Mapping[str, np.ndarray]):
         columns = {
             **telescope_columns([r.telescope for r in rigs]),
             **train_columns([r.train for r in rigs]),
-            **camera_columns([r.camera for r in rigs]),
+            **camera_columns([r.camera for r in rigs], [r.binning for r in rigs]),
             **mount_columns([r.mount for r in rigs]),
             **rig_extra_columns(rigs),
         }
@@ -308,23 +333,35 @@ class RigBatch(Mapping[str, np.ndarray]):
         trains: Sequence[Any] = ((),),
         mounts: Sequence[Mount | None] = (None,),
         baseline: tuple[int, int, int, int] = (0, 0, 0, 0),
+        accessories: Sequence[Accessory] = (),
+        geometry: Geometry | None = None,
+        *,
+        binning: Sequence[int] | None = None,
+        eyepieces: Sequence[Any] | None = None,
     ) -> RigBatch:
         """A sweep batch: the cartesian product telescope × camera × train × mount, never built.
 
         Each kind's columns lie along their own axis (see :data:`AXES`); a train entry is a list of
-        elements (see :func:`as_train`). Rigs in a sweep carry no accessories and no geometry.
+        elements (see :func:`as_train`). ``accessories`` and ``geometry`` belong to every
+        combination alike (their columns have one element, shape ``(1, 1, 1, 1)``), so a rig in a
+        sweep carries the same payload, price and moments as the same rig compared on its own.
+
+        The camera axis may hold more than cameras (an evaluation's camera × binning pairs and its
+        eyepieces, see :mod:`calculators.sweep.detectors`): ``binning`` gives each entry's factor,
+        ``eyepieces`` each entry's eyepiece element (None for a camera; the camera is then None),
+        read as the last element of every train.
         """
         ndim = len(AXES)
+        train_cols = _along(train_columns([as_train(t) for t in trains]), 2, ndim)
+        if eyepieces is not None and any(e is not None for e in eyepieces):
+            ends = _along(train_columns([[] if e is None else [e] for e in eyepieces]), 1, ndim)
+            train_cols = with_eyepiece_axis(train_cols, ends)
         columns = {
             **_along(telescope_columns(telescopes), 0, ndim),
-            **_along(camera_columns(cameras), 1, ndim),
-            **_along(train_columns([as_train(t) for t in trains]), 2, ndim),
+            **_along(camera_columns(cameras, binning), 1, ndim),
+            **train_cols,
             **_along(mount_columns(mounts), 3, ndim),
         }
-        ones = np.ones((1,) * ndim)
-        columns.update(
-            accessories_mass_kg=0.0 * ones, accessories_price=NAN * ones,
-            accessories_currency=np.full((1,) * ndim, "", dtype="U3"),
-            payload_arm_mm=NAN * ones, counterweight_kg=NAN * ones,
-        )
+        shared = extra_columns([(list(accessories), geometry)])
+        columns.update({name: values.reshape((1,) * ndim) for name, values in shared.items()})
         return cls(columns=columns, baseline=tuple(baseline))

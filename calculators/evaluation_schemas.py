@@ -10,11 +10,18 @@ from __future__ import annotations
 
 from typing import Annotated, Any, Literal
 
-from pydantic import BaseModel, Field, ValidationInfo, field_validator, model_validator
+from pydantic import BaseModel, BeforeValidator, Field, ValidationInfo, field_validator, model_validator
 
-from calculators.schemas import Camera, Modifier, Mount, Strict, Telescope
+from calculators.binning import MAX_BINNING
+from calculators.schemas import Accessory, Camera, Geometry, Modifier, Mount, Strict, Telescope, one_currency
+from calculators.ownership import CandidateTrainElement, candidate_model
 from calculators.site import SiteUsed
-from calculators.train_elements import MAX_TRAIN_ELEMENTS, TrainElement, check_train, train_element
+from calculators.train_elements import (
+    MAX_TRAIN_ELEMENTS,
+    Eyepiece,
+    check_train,
+    train_element,
+)
 
 #: Largest ``limit`` a request may ask for.
 MAX_LIMIT = 1000
@@ -30,12 +37,21 @@ class Bounds(Strict):
 
 
 class Indices(Strict):
-    """One combination, as an index into each of the request's component lists."""
+    """One combination, as an index into each of the request's component lists, with its binning
+    factor; a visual combination has an ``eyepiece`` index and no ``camera`` or ``binning``."""
 
     telescope: int = Field(default=0, ge=0)
-    camera: int = Field(default=0, ge=0)
+    camera: int | None = Field(default=0, ge=0, description="Position (from 0) in the request's "
+                               "cameras list; null for a visual combination (an eyepiece).")
     train: int = Field(default=0, ge=0)
     mount: int = Field(default=0, ge=0)
+    binning: int | None = Field(
+        default=None, ge=1, description="The binning factor the camera is read at (one of the "
+        "request's `binning`); null for a visual combination. In `baseline`: default the first "
+        "factor listed.")
+    eyepiece: int | None = Field(
+        default=None, ge=0, description="Position (from 0) in the request's eyepieces list, for a "
+        "visual combination (no camera); null for an imaging one.")
 
     @model_validator(mode="before")
     @classmethod
@@ -56,6 +72,8 @@ class Ids(BaseModel):
         default=None, description="One per element of the train (null for an inline element)."
     )
     mount: int | None = None
+    eyepiece: int | None = Field(default=None, description="Stored id of a visual combination's "
+                                 "eyepiece (null when inline, or for an imaging combination).")
 
 
 class EvaluationSpec(Strict):
@@ -80,15 +98,60 @@ class EvaluationSpec(Strict):
         "against; default the first of each list.",
     )
     limit: int = Field(default=20, ge=0, le=MAX_LIMIT, description="How many rows `top` holds.")
+    binning: list[Annotated[int, Field(ge=1, le=MAX_BINNING)]] = Field(
+        default_factory=lambda: [1], min_length=1, max_length=MAX_BINNING,
+        description="Binning factors to try, each a whole number 1-4 listed once: every camera is "
+        "swept at each (b × b pixels summed into one; sampling, target_fit and integration_time "
+        "honour it). Rows name theirs in `indices.binning`. Default [1].",
+        examples=[[1, 2]],
+    )
+    accessories: list[candidate_model(Accessory)] = Field(
+        default_factory=list, max_length=50,
+        description="Items added to every combination, as a rig's `accessories` (finder, guide "
+        "scope, dew heater…, each with its mass and price): they count in the payload and the "
+        "price of each combination, as they do in a stored or inline rig. Prices share one "
+        "currency; `owned: true` keeps one out of `cost.purchase_price`.",
+    )
+    geometry: Geometry | None = Field(
+        default=None, description="Where the payload sits on a german-equatorial mount, as a "
+        "rig's `geometry`, for every combination: the payload calculator's moments and inertia "
+        "need it (null: not stated, those outputs are null).",
+    )
     allow_incompatible: bool = Field(
         default=False, description="Keep combinations the compatibility calculator says cannot be "
         "assembled (wrong design, focal ratio out of range, cannot reach focus, too long); by "
         "default they are excluded and counted in `excluded`. \"not stated\" never excludes.",
     )
 
+    @field_validator("accessories")
+    @classmethod
+    def _accessories_share_a_currency(cls, value: list) -> list:
+        return one_currency(value)
 
-#: One candidate train: its elements, telescope side first.
-Train = Annotated[list[TrainElement], Field(max_length=MAX_TRAIN_ELEMENTS)]
+
+def _eyepiece_kind(value: Any) -> Any:
+    # A candidate eyepiece may leave out the element's kind: it can only be "eyepiece".
+    if isinstance(value, dict) and "kind" not in value:
+        return {"kind": "eyepiece", **value}
+    return value
+
+
+#: One candidate eyepiece: the eyepiece train element (``kind`` optional), for visual combinations.
+EyepieceCandidate = Annotated[candidate_model(Eyepiece), BeforeValidator(_eyepiece_kind)]
+
+EYEPIECES_DESCRIPTION = (
+    'Candidate eyepieces, each as the eyepiece train element takes it ({"focal_length_mm", '
+    '"apparent_field_deg", "field_stop_mm", "eye_relief_mm", "name", "mass_kg", "price", "owned"}; "kind" '
+    'may be left out) or {"id": N} of a stored one: each telescope × train × eyepiece × mount is a '
+    "camera-free (visual) combination beside the imaging ones, its eyepiece ending the train. "
+    "`cameras` may be empty when eyepieces are given. Imaging-only outputs are null for visual "
+    "combinations (so a constraint on one leaves them infeasible) and the `visual` calculator's "
+    "are null for imaging ones."
+)
+
+
+#: One candidate train: its elements, telescope side first (each may be marked ``owned``).
+Train = Annotated[list[CandidateTrainElement], Field(max_length=MAX_TRAIN_ELEMENTS)]
 
 
 def trains_from(value: list, info) -> list:
@@ -109,10 +172,12 @@ def trains_from(value: list, info) -> list:
 
 
 class InlineEvaluationRequest(EvaluationSpec):
-    """A whole evaluation request with every component given inline."""
+    """A whole evaluation request with every component given inline; any may be marked ``owned``."""
 
-    telescopes: list[Telescope] = Field(min_length=1)
-    cameras: list[Camera] = Field(min_length=1)
+    telescopes: list[candidate_model(Telescope)] = Field(min_length=1)
+    cameras: list[candidate_model(Camera)] = Field(
+        default_factory=list, description="Candidate cameras; may be empty when `eyepieces` are "
+        "given (or every train ends in an eyepiece).")
     modifiers: list[Modifier | None] | None = Field(
         default=None, min_length=1, deprecated=True,
         description="Deprecated (one release): each becomes a one-element train; null no train.",
@@ -121,9 +186,11 @@ class InlineEvaluationRequest(EvaluationSpec):
         default_factory=lambda: [[]], min_length=1, validate_default=True,
         description="Candidate trains; [] is nothing between telescope and camera.",
     )
-    mounts: list[Mount | None] = Field(
+    mounts: list[candidate_model(Mount) | None] = Field(
         default_factory=lambda: [None], min_length=1, description="null means no mount."
     )
+    eyepieces: list[EyepieceCandidate] = Field(default_factory=list, max_length=100,
+                                               description=EYEPIECES_DESCRIPTION)
 
     @field_validator("trains")
     @classmethod

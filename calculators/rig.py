@@ -7,7 +7,18 @@ from __future__ import annotations
 
 from pydantic import Field, ValidationInfo, field_validator
 
-from calculators.schemas import Accessory, Camera, Geometry, Modifier, Mount, Name, Strict, Telescope
+from calculators.binning import MAX_BINNING
+from calculators.schemas import (
+    Accessory,
+    Camera,
+    Geometry,
+    Modifier,
+    Mount,
+    Name,
+    Strict,
+    Telescope,
+    one_currency,
+)
 from calculators.train_elements import (
     MAX_TRAIN_ELEMENTS,
     ElementKind,
@@ -36,6 +47,11 @@ class Rig(Strict):
     camera: Camera | None = Field(
         default=None, validate_default=True,
         description="Needed unless the train ends in an eyepiece (then there is none).",
+    )
+    binning: int = Field(
+        default=1, ge=1, le=MAX_BINNING,
+        description="Binning the camera is read at: b × b pixels summed into one (1: none; see "
+        "the sampling, target_fit and integration_time calculators). Only with a camera.",
     )
     mount: Mount | None = None
     accessories: list[Accessory] = Field(default_factory=list, max_length=50)
@@ -66,13 +82,17 @@ class Rig(Strict):
             raise ValueError("a rig needs a camera, or an eyepiece as the last element of its train")
         return value
 
+    @field_validator("binning")
+    @classmethod
+    def _binning_needs_a_camera(cls, value: int, info: ValidationInfo) -> int:
+        if value != 1 and "camera" in info.data and info.data["camera"] is None:
+            raise ValueError("a rig without a camera has no pixels to bin; leave binning at 1")
+        return value
+
     @field_validator("accessories")
     @classmethod
     def _one_currency(cls, value: list[Accessory]) -> list[Accessory]:
-        currencies = {a.price.currency for a in value if a.price is not None}
-        if len(currencies) > 1:
-            raise ValueError(f"accessories of one rig must share a currency, got {sorted(currencies)}")
-        return value
+        return one_currency(value)
 
     def model_post_init(self, _context) -> None:
         self.modifier = None  # read into the train

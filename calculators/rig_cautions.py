@@ -71,11 +71,24 @@ def heavy_lift(item: str, mass: float) -> str:
     )
 
 
+#: Up to this many rows the cautions are worked out on Python floats: for the few rigs of a
+#: comparison, a dozen numpy calls cost more than the arithmetic (the figures are the same, see
+#: :func:`cautions_by_rows`).
+SMALL_BATCH_ROWS = 16
+
+
 def rig_cautions(batch: RigBatch) -> list[list[str]]:
     """The cautions of each row of ``batch`` (a list per row; empty when nothing applies).
 
     The tests are array operations over all rows; text is written only for the rows they flag.
     """
+    if math.prod(batch.shape) <= SMALL_BATCH_ROWS:
+        return cautions_by_rows(batch)
+    return cautions_by_arrays(batch)
+
+
+def cautions_by_arrays(batch: RigBatch) -> list[list[str]]:
+    """:func:`rig_cautions` for any number of rows, with numpy arrays."""
     n = math.prod(batch.shape)
     parts = np.stack([_column(batch, column).reshape(n) for column in PAYLOAD_PARTS])
     complete = ~np.isnan(parts).any(axis=0)
@@ -92,4 +105,43 @@ def rig_cautions(batch: RigBatch) -> list[list[str]]:
         out[i].append(over_rating(float(payload[i]), float(capacity[i]), bool(complete[i])))
     for i in np.flatnonzero(heavy).tolist():
         out[i].append(heavy_lift(LIFTED_ITEMS[which[i]][1], float(heaviest[which[i], i])))
+    return out
+
+
+def _floats(batch: RigBatch, name: str, n: int) -> list[float]:
+    values = batch.columns.get(name)
+    if values is None:
+        return [math.nan] * n
+    if type(values) is np.ndarray and values.dtype == np.float64 and values.shape == (n,):
+        return values.tolist()  # a comparison's column as it is: no copy, no broadcasting
+    return _column(batch, name).reshape(n).tolist()
+
+
+def cautions_by_rows(batch: RigBatch) -> list[list[str]]:
+    """:func:`rig_cautions` row by row on Python floats, with the same arithmetic in the same order.
+
+    The payload is added part after part from the first, a missing part counting 0, as
+    ``np.nansum`` over the stacked parts does along its first axis, so every sum is the very same
+    double; the heaviest item is the first of the largest, as ``argmax`` picks it.
+    """
+    n = math.prod(batch.shape)
+    parts = [_floats(batch, column, n) for column in PAYLOAD_PARTS]
+    capacities = _floats(batch, "capacity_kg", n)
+    masses = [_floats(batch, column, n) for column, _item in LIFTED_ITEMS]
+    out: list[list[str]] = []
+    for i in range(n):
+        row: list[str] = []
+        stated = [part[i] for part in parts]
+        payload = stated[0] if not math.isnan(stated[0]) else 0.0
+        for value in stated[1:]:
+            payload += value if not math.isnan(value) else 0.0
+        if payload > capacities[i]:  # False where there is no mount (NaN)
+            row.append(over_rating(payload, capacities[i], not any(map(math.isnan, stated))))
+        heaviest, which = -math.inf, 0
+        for k, item in enumerate(masses):
+            if item[i] > heaviest:  # NaN never is: an unknown mass is no caution
+                heaviest, which = item[i], k
+        if heaviest > LIFT_GUIDELINE_KG:
+            row.append(heavy_lift(LIFTED_ITEMS[which][1], heaviest))
+        out.append(row)
     return out

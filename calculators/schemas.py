@@ -307,6 +307,14 @@ class Accessory(Strict):
     price: Price | None = None
 
 
+def one_currency(accessories: list[Accessory]) -> list[Accessory]:
+    """The accessories, if their prices share one currency (they are added up); ValueError otherwise."""
+    currencies = {a.price.currency for a in accessories if a.price is not None}
+    if len(currencies) > 1:
+        raise ValueError(f"accessories of one rig must share a currency, got {sorted(currencies)}")
+    return accessories
+
+
 class Geometry(Strict):
     """Where the payload sits on a german-equatorial mount, for moments and inertia."""
 

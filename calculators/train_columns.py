@@ -24,9 +24,11 @@ from __future__ import annotations
 
 import math
 from collections.abc import Sequence
+from functools import cache
 
 import numpy as np
 
+from calculators.ownership import purchase_sum
 from calculators.schemas import Design
 from calculators.train_elements import (
     DEFAULT_BACKFOCUS_TOLERANCE_MM,
@@ -42,7 +44,7 @@ DESIGN_ORDER: tuple[str, ...] = tuple(d.value for d in Design)
 ANY_DESIGN = (1 << len(DESIGN_ORDER)) - 1
 
 FLOAT_NAMES = (
-    "train_factor", "train_throughput", "train_mass_kg", "train_price",
+    "train_factor", "train_throughput", "train_mass_kg", "train_price", "train_purchase_price",
     "train_image_circle_mm", "train_corrected_field_mm",
     "train_focal_ratio_min", "train_focal_ratio_max",
     "train_backfocus_mm", "train_backfocus_tolerance_mm", "train_length_behind_mm",
@@ -124,6 +126,7 @@ def fold(train: Sequence) -> tuple[dict[str, float], dict[str, object]]:
         "train_throughput": math.prod(e.effective_throughput for e in optics),
         "train_mass_kg": _sum_or_nan(masses),
         "train_price": sum(p.amount for p in priced) if priced else NAN,
+        "train_purchase_price": purchase_sum(train),
         "train_image_circle_mm": min(circles, default=NAN),
         "train_corrected_field_mm": min(corrected, default=NAN),
         "train_focal_ratio_min": max(mins, default=NAN),
@@ -155,9 +158,48 @@ def fold(train: Sequence) -> tuple[dict[str, float], dict[str, object]]:
     return numbers, texts
 
 
+@cache
+def _nothing_folded() -> tuple[dict[str, float], dict[str, object]]:
+    # Most rigs of a comparison have no train (the camera on the telescope): the same fold every
+    # time, worked out once per process (it costs more than the rest of the columns together).
+    return fold([])
+
+
+#: Old names of the single-modifier slot, kept for one release (plugins may read them): the same
+#: arrays as the new columns they alias.
+OLD_ALIASES = {
+    "modifier_factor": "train_factor", "modifier_throughput": "train_throughput",
+    "modifier_mass_kg": "train_mass_kg", "modifier_price": "train_price",
+    "modifier_currency": "train_currency", "corrected_field_mm": "train_corrected_field_mm",
+}
+
+#: Up to this many rigs without a train, the columns are copies of ones made once per size.
+SMALL_BATCH_ROWS = 64
+
+
 def train_columns(trains: Sequence[Sequence]) -> dict[str, np.ndarray]:
     """Columns of shape ``(len(trains),)``; each train is a list of validated elements."""
-    folded = [fold(list(t)) for t in trains]
+    if len(trains) <= SMALL_BATCH_ROWS and not any(trains):
+        # A comparison of rigs without a train: fresh copies (a calculator may own what it is
+        # given) of columns folded once per size, a third of the cost of building them.
+        table, others = _no_train_columns(len(trains))
+        columns = dict(zip(FLOAT_NAMES, table.copy()))  # one copy; each column a row of it
+        columns.update({name: values.copy() for name, values in others.items()})
+    else:
+        columns = _columns([fold(list(t)) if t else _nothing_folded() for t in trains])
+    columns.update({old: columns[new] for old, new in OLD_ALIASES.items()})
+    columns["modifier_kind"] = columns.pop("modifier_kind")  # last, where it has always been
+    return columns
+
+
+@cache
+def _no_train_columns(n: int) -> tuple[np.ndarray, dict[str, np.ndarray]]:
+    columns = _columns([_nothing_folded()] * n)
+    table = np.array([columns.pop(name) for name in FLOAT_NAMES])
+    return table, columns
+
+
+def _columns(folded: list[tuple[dict[str, float], dict[str, object]]]) -> dict[str, np.ndarray]:
     n = len(folded)
     table = np.array([[f[0][name] for name in FLOAT_NAMES] for f in folded],
                      dtype=np.float64).reshape(n, len(FLOAT_NAMES)).T.copy()
@@ -167,12 +209,44 @@ def train_columns(trains: Sequence[Sequence]) -> dict[str, np.ndarray]:
     columns["train_design_mask"] = np.array([f[1]["train_design_mask"] for f in folded], dtype=np.int64)
     for name in ("train_has_corrector", "train_powered", "train_has_eyepiece"):
         columns[name] = np.array([f[1][name] for f in folded], dtype=bool)
-    # Old names of the single-modifier slot, kept for one release (plugins may read them).
-    columns.update(
-        modifier_factor=columns["train_factor"], modifier_throughput=columns["train_throughput"],
-        modifier_mass_kg=columns["train_mass_kg"], modifier_price=columns["train_price"],
-        modifier_currency=columns["train_currency"],
-        corrected_field_mm=columns["train_corrected_field_mm"],
-        modifier_kind=np.array([f[1]["modifier_kind"] for f in folded], dtype=str),
-    )
+    columns["modifier_kind"] = np.array([f[1]["modifier_kind"] for f in folded], dtype=str)
     return columns
+
+
+#: Train columns an eyepiece on the sweep's camera axis changes, and how (see
+#: :func:`with_eyepiece_axis`).
+EYEPIECE_COLUMNS = ("eyepiece_focal_length_mm", "eyepiece_apparent_field_deg",
+                    "eyepiece_field_stop_mm", "eyepiece_eye_relief_mm")
+
+
+def _add_prices(a, b):
+    return np.where(np.isnan(a), b, np.where(np.isnan(b), a, a + b))
+
+
+def with_eyepiece_axis(trains: dict[str, np.ndarray], eyepieces: dict[str, np.ndarray]) -> dict:
+    """Train columns of a sweep whose camera axis also holds eyepieces (an evaluation's
+    ``eyepieces``): each train is then read as the train followed by the camera-axis entry's
+    eyepiece, exactly as :func:`fold` reads a train that ends in it. ``trains`` lie along the train
+    axis, ``eyepieces`` (the :func:`train_columns` of one-element or empty trains) along the camera
+    axis; the columns an eyepiece changes broadcast to camera × train, the others stay as they are.
+    """
+    out = dict(trains)
+    for name in EYEPIECE_COLUMNS:
+        mine, theirs = eyepieces[name], trains[name]
+        out[name] = mine if np.isnan(theirs).all() else np.where(np.isnan(mine), theirs, mine)
+    out["train_has_eyepiece"] = trains["train_has_eyepiece"] | eyepieces["train_has_eyepiece"]
+    out["train_mass_kg"] = trains["train_mass_kg"] + eyepieces["train_mass_kg"]
+    out["train_price"] = _add_prices(trains["train_price"], eyepieces["train_price"])
+    out["train_purchase_price"] = _add_prices(trains["train_purchase_price"],
+                                              eyepieces["train_purchase_price"])
+    out["train_currency"] = np.where(trains["train_currency"] == "", eyepieces["train_currency"],
+                                     trains["train_currency"])
+    out["train_elements"] = trains["train_elements"] + eyepieces["train_elements"]
+    added = eyepieces["train_kinds"] != ""
+    out["train_kinds"] = np.where(
+        added, np.char.add(trains["train_kinds"],
+                           np.where(trains["train_kinds"] == "", "eyepiece", ",eyepiece")),
+        trains["train_kinds"])
+    out.update(modifier_mass_kg=out["train_mass_kg"], modifier_price=out["train_price"],
+               modifier_currency=out["train_currency"])
+    return out

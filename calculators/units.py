@@ -32,8 +32,13 @@ def to_canonical(value: Any, unit: str) -> float:
     304.8
     """
     kind = type(value)
-    if kind is float:  # the common case first: the ABC check below costs more than the rest
+    if kind is float:  # the common cases first: the ABC check below costs more than the rest
         number = value
+    elif kind is int:  # a JSON integer (not a bool: its type is bool)
+        try:
+            number = float(value)
+        except OverflowError:  # an int beyond the float range: a validation error, not a crash
+            number = math.inf
     elif isinstance(value, (bool, np.bool_)):
         raise ValueError("expected a number or a string with a unit, not a boolean")
     elif isinstance(value, numbers.Real):  # int, float and numpy scalars alike
@@ -87,6 +92,9 @@ def _dimension_name(units) -> str:
 
 def _quantity(unit: str):
     def validate(value: Any) -> float:
+        # A finite float is already canonical (the unit is the field's): no call for most fields.
+        if type(value) is float and value - value == 0.0:
+            return value
         return to_canonical(value, unit)
 
     return BeforeValidator(validate, json_schema_input_type=float | str)

@@ -5,6 +5,8 @@ from __future__ import annotations
 from collections.abc import Mapping, Sequence
 from typing import Any
 
+import numpy as np
+
 from calculators.batch import RigBatch
 from calculators.errors import RigbenchError
 from calculators.rig_cautions import rig_cautions
@@ -43,6 +45,29 @@ def compare(
     >>> compare([rig], ["sampling"]).results["sampling"].outputs["pixel_scale_arcsec"].values
     [0.7838...]
     """
+    return Comparison.model_validate(comparison_tree(
+        rigs, calculators, baseline, params, registry=registry, ids=ids, site=site, site_id=site_id,
+    ))
+
+
+def comparison_tree(
+    rigs: Sequence[Rig | Mapping[str, Any]],
+    calculators: Sequence[str] | None = None,
+    baseline: int = 0,
+    params: Mapping[str, Mapping[str, Any]] | None = None,
+    *,
+    registry: Registry | None = None,
+    ids: Sequence[int | None] | None = None,
+    site: Site | Mapping[str, Any] | None = None,
+    site_id: int | None = None,
+) -> dict[str, Any]:
+    """What :func:`compare` answers, as the plain tree of dicts and lists it validates into a
+    :class:`~plugins.results.Comparison` (the same arguments, the same refusals).
+
+    Every value is already of the type the model would make of it (an integer output's values are
+    floats, as validation turns them), so :func:`plugins.results.comparison_json` can write the
+    answer of built-in calculators without validating it again.
+    """
     registry = registry or load_registry()
     models = [r if isinstance(r, Rig) else Rig.model_validate(r) for r in rigs]
     if not models:
@@ -72,7 +97,7 @@ def compare(
         outcome = run(calc, batch, parsed[name])
         units = outcome.units
         labels = {o.name: o.shown_label for o in calc.outputs}
-        values = {out: to_json_values(v) for out, v in outcome.values.items()}
+        values = {out: _json_values(v) for out, v in outcome.values.items()}
         reasons = explain(calc, batch, parsed[name], values, missing)
         results[name] = {
             "version": calc.version,
@@ -91,12 +116,20 @@ def compare(
                 for row, outputs in sorted(outcome.row_errors.items())
             ]
     ids = list(ids) if ids is not None else [None] * len(models)
-    # One validation of the whole tree (in pydantic's compiled core) instead of one model per
-    # output: for a few rigs, building some forty small models cost more than their arithmetic.
-    return Comparison.model_validate({
+    # A tree validated at once (in pydantic's compiled core) by compare(), or written as it is by
+    # comparison_json(): for a few rigs, building some forty small models cost more than their
+    # arithmetic.
+    return {
         "rigs": [{"id": i, "name": m.name, "cautions": c}
                  for i, m, c in zip(ids, models, rig_cautions(batch))],
         "baseline": baseline,
         "results": results,
         "site": used,
-    })
+    }
+
+
+def _json_values(values: np.ndarray) -> list:
+    """:func:`~plugins.runner.to_json_values`, integers as floats (what the result model makes of them)."""
+    if values.dtype.kind in "iu":  # a run's values are arrays (plugins.runner checks them)
+        return [float(v) for v in values.ravel().tolist()]
+    return to_json_values(values)

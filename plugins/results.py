@@ -2,7 +2,11 @@
 
 from __future__ import annotations
 
+from collections.abc import Mapping, Sequence
+from typing import Any
+
 from pydantic import BaseModel, Field
+from pydantic_core import to_json
 
 from calculators.site import SiteUsed
 
@@ -66,3 +70,28 @@ class Comparison(BaseModel):
     site: SiteUsed | None = Field(
         default=None, description="The observing site whose conditions filled the params (null: none)."
     )
+
+
+def comparison_json(
+    tree: Mapping[str, Any], skipped: Sequence[SkippedRig] = (), *, validate: bool = False
+) -> bytes:
+    """The JSON of the :class:`Comparison` that ``tree`` (from :func:`plugins.compare.comparison_tree`)
+    and ``skipped`` make, byte for byte as ``model_dump_json`` writes it.
+
+    A tree from built-in calculators, with no site and nothing skipped, is written as it is: its
+    values are already of the models' types and its keys in the models' order, so only the defaults
+    the models add are filled in (``row_errors``, ``skipped``), and validating it again (it was
+    built by our own code) would cost as much as serialising it. Anything else — ``validate=True``
+    (a third-party calculator's values), a site, skipped rigs — goes through the model.
+    tests/plugins/test_results.py checks that both ways agree byte for byte on random rigs.
+    """
+    if validate or skipped or tree["site"] is not None:
+        model = Comparison.model_validate(tree)
+        model.skipped = list(skipped)
+        return model.model_dump_json().encode()
+    results = {
+        name: result if "row_errors" in result else {**result, "row_errors": []}
+        for name, result in tree["results"].items()
+    }
+    return to_json({"rigs": tree["rigs"], "baseline": tree["baseline"], "results": results,
+                    "skipped": [], "site": None})

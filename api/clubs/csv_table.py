@@ -70,6 +70,7 @@ RIG_COLUMNS = [
     *(f"{slot}{suffix}" for slot in RIG_SLOTS for suffix in ("_id", "")),
     "train_ids", "train",
     "accessories", "geometry.payload_arm_mm", "geometry.counterweight_kg",
+    "fit",  # the compatibility verdict in words (api.clubs.fit); empty when not computed
 ]
 
 
@@ -80,10 +81,11 @@ def _slot_cells(rig: Any, slot: str) -> list[Any]:
     return [stored_id, name]
 
 
-def rigs_csv(rigs: Sequence[Any]) -> str:
-    """One row per rig (``RigPublic``): its components by id and name, accessories, geometry."""
+def rigs_csv(rigs: Sequence[Any], fits: Sequence[str | None] = ()) -> str:
+    """One row per rig (``RigPublic``): its components by id and name, accessories, geometry and,
+    from ``fits`` (one per rig, api.clubs.fit), its compatibility verdict in words."""
     rows = []
-    for rig in rigs:
+    for i, rig in enumerate(rigs):
         geometry = rig.resolved.geometry
         rows.append([
             rig.id, rig.name, *(cell for slot in RIG_SLOTS for cell in _slot_cells(rig, slot)),
@@ -91,5 +93,6 @@ def rigs_csv(rigs: Sequence[Any]) -> str:
             "; ".join(e.name or e.kind.value for e in rig.resolved.train),
             "; ".join(a.name for a in rig.resolved.accessories),
             geometry.payload_arm_mm if geometry else None, geometry.counterweight_kg if geometry else None,
+            fits[i] if i < len(fits) else None,
         ])
     return records_csv(RIG_COLUMNS, rows)

@@ -19,6 +19,7 @@ from markupsafe import Markup
 from sqlmodel import Session
 from starlette.responses import FileResponse, HTMLResponse, Response
 
+from api.clubs import fit
 from api.clubs import queries as clubs
 from api.clubs.cache import serve_cached
 from api.clubs import view as club_view
@@ -147,14 +148,19 @@ def _club_page(name: str, request: Request, baseline: str | None, target: str, e
     chosen = {"baseline": result.baseline_rig_id, "target": result.target} if result.rigs else {}
     chosen.update({k: request.query_params[k] for k in OVERRIDES if k in request.query_params})
     query = "?" + urlencode(chosen) if chosen else ""
+    resolved = {rig.id: rig.resolved for rig in rigs}
+    fits = fit.from_result(result.results.get(fit.CALCULATOR), [resolved.get(r.id) for r in result.rigs])
+    # A no-break space keeps each length and its unit on one line in a narrow column.
+    fits = [text.replace(" mm", "\u00a0mm") if text else text for text in fits]
     return _html(
         "club.html",
         club=club, comparison=result, embed=(embed or "").lower() in {"1", "true", "yes"}, page_url=page_url,
-        table=club_view.comparison_table(result),
+        table=club_view.comparison_table(result, fits),
         figures=club_view.all_figures(result, counts=club_view.counts(request.app.state.registry)),
         fields=Markup(club_view.fields_picture(result) or ""), bars=Markup(club_view.bars_picture(result) or ""),
         equipment=club_view.equipment_tables(equipment), complete=equipment.complete,
-        rigs=club_view.rigs_table(rigs), cautions=CAUTIONS, calculator_cautions=club_view.cautions(result),
+        rigs=club_view.rigs_table(rigs, {r.id: text for r, text in zip(result.rigs, fits)}),
+        cautions=CAUTIONS, calculator_cautions=club_view.cautions(result),
         rig_cautions=club_view.rig_cautions(result),
         credit=CREDIT, query=query, site_fields=SITE_FIELDS, api=f"/v1/clubs/{club.name}",
     )

@@ -12,6 +12,7 @@ from fastapi import APIRouter, Path, Query, Request
 from sqlmodel import Session
 from starlette.responses import Response
 
+from api.clubs import fit
 from api.clubs import queries as clubs
 from api.clubs.cache import serve_cached
 from api.clubs.csv_table import clubs_csv, equipment_csv, rigs_csv
@@ -99,17 +100,21 @@ def get_club_equipment(
 
 @router.get(
     "/{name}/rigs", response_model=RigList, operation_id="list_club_rigs", summary="A club's public rigs",
-    responses={**csv_response("The rigs; as CSV, one row per rig with its components' ids and names."),
+    responses={**csv_response("The rigs; as CSV, one row per rig with its components' ids and names and "
+                              "its compatibility verdict in words (column `fit`)."),
                **problems.responses(404, 422)},
 )
 def list_club_rigs(
-    name: ClubName, request: Request, session: SessionDep, settings: SettingsDep, limit: Limit = 50,
-    offset: Offset = 0, format: Format = None,
+    name: ClubName, request: Request, session: SessionDep, settings: SettingsDep, registry: RegistryDep,
+    limit: Limit = 50, offset: Offset = 0, format: Format = None,
 ):
     check_limit(limit, settings)
     items, total = clubs.rigs(session, clubs.find_club(session, name), limit, offset)
     if wants_csv(request, format):
-        return as_csv(rigs_csv([rig for rig in items if not rig.invalid]), f"{name}-rigs.csv")
+        valid = [rig for rig in items if not rig.invalid]
+        # One vectorised pass of one calculator over at most max_page_size rigs.
+        fits = fit.verdicts(registry, [rig.resolved for rig in valid])
+        return as_csv(rigs_csv(valid, fits), f"{name}-rigs.csv")
     return RigList(items=items, total=total, limit=limit, offset=offset)
 
 

@@ -6,11 +6,11 @@ always agree. Cells keep the exact value (``data-value``) beside the rounded tex
 
 from __future__ import annotations
 
-from collections.abc import Collection
+from collections.abc import Collection, Mapping, Sequence
 from dataclasses import dataclass, field
 from typing import Any
 
-from api.clubs import pictures
+from api.clubs import fit, pictures
 from api.display import data_value, header, number_text, unit_text
 from api.clubs.schemas import ClubComparison, ClubEquipment
 from calculators.builtin.catalogue import CREDIT, lookup
@@ -26,6 +26,9 @@ class Column:
 # The comparison table: the figures most people compare first, headed by their labels. Every figure
 # is in the full table.
 COLUMNS = (
+    # First, whether the rig can be built at all: in words (api.clubs.fit), the cell's data-value
+    # keeping the calculator's verdict.
+    Column("compatibility", "verdict"),
     Column("speed", "effective_focal_length_mm"),
     Column("speed", "focal_ratio"),
     Column("light_grasp", "clear_area_mm2"),
@@ -82,8 +85,10 @@ def _ok(result: CalculatorResult | None) -> bool:
     return result is not None and result.error is None
 
 
-def comparison_table(comparison: ClubComparison) -> Table:
-    """The curated columns, one row per rig, the unit in each header; failed calculators noted."""
+def comparison_table(comparison: ClubComparison, fits: Sequence[str | None] = ()) -> Table:
+    """The curated columns, one row per rig, the unit in each header; failed calculators noted.
+
+    ``fits``: each rig's compatibility verdict in words (api.clubs.fit), shown in the verdict's cell."""
     columns = [c for c in COLUMNS if _ok(comparison.results.get(c.calculator))
                and c.output in comparison.results[c.calculator].outputs]
     headers = []
@@ -95,7 +100,10 @@ def comparison_table(comparison: ClubComparison) -> Table:
         cells = []
         for c in columns:
             value = comparison.results[c.calculator].outputs[c.output].values[i]
-            cells.append(Cell(number_text(value), data_value(value), f"{c.calculator}.{c.output}"))
+            text = number_text(value)
+            if (c.calculator, c.output) == (fit.CALCULATOR, "verdict") and i < len(fits) and fits[i]:
+                text = fits[i]
+            cells.append(Cell(text, data_value(value), f"{c.calculator}.{c.output}"))
         rows.append(Row(rig.id, rig.name, i == comparison.baseline, cells, list(rig.cautions)))
     notes = [f"{name}: {result.error}" for name, result in comparison.results.items() if result.error]
     return Table(headers, rows, notes)
@@ -263,13 +271,15 @@ def _component(part: Any) -> str:
     return "—" if part is None else (part.name or "(unnamed)")
 
 
-def rigs_table(rigs: list[Any]) -> SimpleTable:
-    headers = ["Rig", "Telescope", "Imaging train", "Camera", "Mount", "Accessories"]
+def rigs_table(rigs: list[Any], fits: Mapping[int, str | None] | None = None) -> SimpleTable:
+    """What each rig is made of and, from ``fits`` (rig id -> words, api.clubs.fit), whether it fits."""
+    fits = fits or {}
+    headers = ["Rig", "Telescope", "Imaging train", "Camera", "Mount", "Accessories", "Fit"]
     rows = [
         [rig.name, _component(rig.resolved.telescope),
          " → ".join(e.name or e.kind.value for e in rig.resolved.train) or "—",
          _component(rig.resolved.camera), _component(rig.resolved.mount),
-         ", ".join(a.name for a in rig.resolved.accessories) or "—"]
+         ", ".join(a.name for a in rig.resolved.accessories) or "—", fits.get(rig.id) or "—"]
         for rig in rigs
     ]
     return SimpleTable("rigs", "Rigs", headers, rows)

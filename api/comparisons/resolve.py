@@ -16,6 +16,7 @@ from api.equipment.readable import reasons
 from api.http.problems import ApiProblem, FieldError
 from api.storage.models import RigRow
 from api.storage.store import readable_by
+from calculators.ownership import owned_parts
 from calculators.schemas import Rig
 from plugins.registry import Registry
 from plugins.results import SkippedRig
@@ -74,12 +75,16 @@ def resolve_rigs(
     """Rigs and their stored ids, reading only what the caller may read (one query per table), and
     the stored rigs left out because their stored spec no longer validates (422 when that leaves
     none, or takes the baseline)."""
+    me = principal.account.id if principal is not None else None
+    owners: dict[tuple[str, int], int] = {}
+    mine: set[tuple[str, int]] = set()
     with Session(engine) as session:
         wanted = {e.id for e in body.rigs if isinstance(e, schemas.Ref)}
         stored = {}
         if wanted:
             rows = session.exec(select(RigRow).where(RigRow.id.in_(wanted), readable_by(RigRow, principal))).all()
-            stored = {row.id: (row, spec) for row, spec in zip(rows, stored_rig_specs(session, rows))}
+            specs = stored_rig_specs(session, rows, owners=owners)
+            stored = {row.id: (row, spec) for row, spec in zip(rows, specs)}
         errors = [
             FieldError(field=f"rigs.{i}.id", message=f"no rig with id {e.id} that you can read")
             for i, e in enumerate(body.rigs)
@@ -88,19 +93,27 @@ def resolve_rigs(
         if errors:
             raise invalid(errors)
         inline = [(i, e) for i, e in enumerate(body.rigs) if not isinstance(e, schemas.Ref)]
+        given = [body_slots(e, ("rigs", i)) for i, e in inline]
         slots = resolve_slots(
-            session, principal, [SlotRequest(body_slots(e, ("rigs", i)), loc=("rigs", i)) for i, e in inline]
+            session, principal, [SlotRequest(g, loc=("rigs", i)) for (i, _), g in zip(inline, given)],
+            mine=mine,
         )
     rigs: list[Rig | None] = [None] * len(body.rigs)
     ids: list[int | None] = [None] * len(body.rigs)
-    for (i, entry), resolved in zip(inline, slots):
-        rigs[i] = full_rig(entry, resolved, ("rigs", i))
+    for (i, entry), resolved, parts in zip(inline, slots, given):
+        rig = full_rig(entry, resolved, ("rigs", i))
+        rigs[i] = owned_parts(rig, ownership(parts, lambda slot, ref: (slot, ref["id"]) in mine,
+                                             inline_owned=False))
     skipped: list[SkippedRig] = []
     for i, entry in enumerate(body.rigs):
         if isinstance(entry, schemas.Ref):
             row, spec = stored[entry.id]
             try:
-                rigs[i] = Rig.model_validate(spec)
+                rig = Rig.model_validate(spec)
+                yours = me is not None and row.owner_id == me
+                rigs[i] = owned_parts(rig, ownership(
+                    row.spec, lambda slot, ref: me is not None and owners.get((slot, ref["id"])) == me,
+                    inline_owned=yours))
             except ValidationError as exc:
                 skipped.append(SkippedRig(index=i, id=entry.id, name=row.name, reasons=[
                     f"{e.field}: {e.message}" for e in reasons(exc)]))
@@ -116,6 +129,22 @@ def resolve_rigs(
         rigs = [r for i, r in enumerate(rigs) if i not in gone]
         ids = [x for i, x in enumerate(ids) if i not in gone]
     return rigs, ids, skipped
+
+
+def ownership(parts: dict, owned_ref, inline_owned: bool) -> dict:
+    """Which parts of a rig the caller owns, as :func:`calculators.ownership.owned_parts` takes
+    them: a stored item referenced (``{"id": N}``) when ``owned_ref(slot, ref)`` says so (it is
+    stored under the caller's account), every other part and the accessories when
+    ``inline_owned`` (the caller's own stored rig)."""
+    def flag(slot: str, value) -> bool:
+        ref = value.model_dump() if isinstance(value, schemas.Ref) else value
+        if isinstance(ref, dict) and set(ref) == {"id"}:
+            return bool(owned_ref(slot, ref))
+        return inline_owned
+    out: dict = {slot: flag(slot, parts.get(slot)) for slot in ("telescope", "camera", "mount")}
+    out["train"] = [flag("train", v) for v in parts.get("train") or []]
+    out["accessories"] = [inline_owned] * len(parts.get("accessories") or [])
+    return out
 
 
 def baseline_after_skips(baseline: int, skipped: list[SkippedRig]) -> int:

@@ -17,8 +17,8 @@ from api.http.ratelimit import client_address, rate_limits
 from api.http.negotiation import prefers_csv
 from api.schemas import ComparisonRequest, Ref
 from api.sites.conditions import read_site
-from plugins.compare import compare
-from plugins.results import Comparison
+from plugins.compare import comparison_tree
+from plugins.results import Comparison, comparison_json
 
 router = APIRouter(prefix="/v1/comparisons", tags=["comparisons"])
 
@@ -54,19 +54,23 @@ async def create_comparison(body: ComparisonRequest, request: Request, caller: C
     args = (rigs, names, baseline_after_skips(body.baseline, skipped), body.params)
     kwargs = {"registry": registry, "ids": ids, "site": site, "site_id": site_id}
     # A third-party calculator may wait out its time budget in a worker thread: never on the loop.
+    third_party = registry.runs_third_party(names)
     if len(rigs) > THREADPOOL_RIGS:  # a heavy one: rate-limited, and under a heavy-request slot
         await rate_limits(request).count_compute(caller.key_id if caller else None, client_address(request))
-        result = await run_heavy(request, budget_for(request, caller is not None), compare, *args, **kwargs)
-    elif registry.runs_third_party(names):
-        result = await run_in_threadpool(compare, *args, **kwargs)
+        budget = budget_for(request, caller is not None)
+        tree = await run_heavy(request, budget, comparison_tree, *args, **kwargs)
+    elif third_party:
+        tree = await run_in_threadpool(comparison_tree, *args, **kwargs)
     else:
-        result = compare(*args, **kwargs)
-    result.skipped = skipped
+        tree = comparison_tree(*args, **kwargs)
     if prefers_csv(request.headers.get("accept")):
+        result = Comparison.model_validate(tree)
+        result.skipped = skipped
         return Response(
             comparison_csv(result), media_type="text/csv; charset=utf-8",
             headers={"Content-Disposition": 'inline; filename="comparison.csv"'},
         )
     # Serialised here rather than by FastAPI, which would validate the result against the
     # response model once more; the OpenAPI document still takes the shape from response_model.
-    return Response(result.model_dump_json(), media_type="application/json")
+    # Built-in calculators' trees are written without a validation at all (plugins.results).
+    return Response(comparison_json(tree, skipped, validate=third_party), media_type="application/json")

@@ -229,13 +229,15 @@ class SlotRequest:
 
 
 def resolve_slots(
-    session: Session, principal: Principal | None, requests: Sequence[SlotRequest], *, lock: bool = False
+    session: Session, principal: Principal | None, requests: Sequence[SlotRequest], *, lock: bool = False,
+    mine: set[tuple[str, int]] | None = None,
 ) -> list[dict]:
     """Replace ``{"id": N}`` slots by the stored specs the caller may read; 422 naming each bad one.
 
     One query per kind of equipment, however many rigs are given. With ``lock`` (a write that will
     store references) each row read is locked ``FOR SHARE`` until the transaction ends, so its
-    visibility and spec cannot change before the write commits.
+    visibility and spec cannot change before the write commits. ``mine``, when given, receives
+    ``(slot, id)`` of each item read that is stored under the caller's own account.
     """
     wanted: dict[str, set[int]] = {slot: set() for slot in SLOT_TABLES}
     for request in requests:
@@ -268,6 +270,8 @@ def resolve_slots(
                 message=f"{what} {value.id} is private; a public rig may use only public equipment",
             ))
         else:
+            if mine is not None and principal is not None and row.owner_id == principal.account.id:
+                mine.add((slot, value.id))
             return row.spec
         return None
 
@@ -296,6 +300,7 @@ def full_rig(body: BaseModel, slots: dict[str, Any], loc: tuple[Any, ...] = ()) 
         **slots,
         "accessories": body.accessories,
         "geometry": body.geometry,
+        "binning": getattr(body, "binning", 1),
     }
     try:
         return Rig.model_validate(data)
@@ -330,15 +335,20 @@ def has_refs(slots: dict[str, Any]) -> bool:
 
 
 def stored_rig_specs(
-    session: Session, rigs: Sequence[RigRow], override: dict[tuple[str, int], dict] | None = None
+    session: Session, rigs: Sequence[RigRow], override: dict[tuple[str, int], dict] | None = None,
+    *, owners: dict[tuple[str, int], int] | None = None,
 ) -> list[dict]:
-    """Stored rigs with their references filled in (no access check: the rules above keep them readable)."""
+    """Stored rigs with their references filled in (no access check: the rules above keep them
+    readable). ``owners``, when given, receives the owner's account id of each item referenced,
+    by ``(slot, id)``."""
     override = override or {}
     def items(spec: dict, slot: str) -> list:
         return list(spec.get(slot) or []) if slot == TRAIN else [spec.get(slot)]
 
     wanted = {slot: [v["id"] for r in rigs for v in items(r.spec, slot) if _is_ref(v)] for slot in SLOT_TABLES}
     rows = {slot: fetch_by_ids(session, SLOT_TABLES[slot], ids) for slot, ids in wanted.items()}
+    if owners is not None:
+        owners.update({(slot, i): row.owner_id for slot, found in rows.items() for i, row in found.items()})
 
     def filled(slot: str, value: Any) -> Any:
         if not _is_ref(value):

@@ -25,7 +25,7 @@ from api.evaluations import report_file
 from api.settings import Settings
 
 KINDS = ("telescope", "camera", "train", "mount")
-LISTS = ("telescopes", "cameras", "trains", "mounts", "modifiers")
+LISTS = ("telescopes", "cameras", "trains", "mounts", "modifiers", "eyepieces")
 LABEL_WIDTH = 28
 
 
@@ -134,7 +134,7 @@ def _local(body: dict[str, Any], settings: Settings, chunk_rows: int | None, *,
     from plugins.registry import load_registry
 
     def is_ref(entry: Any) -> bool:
-        return isinstance(entry, dict) and set(entry) == {"id"}
+        return isinstance(entry, dict) and "id" in entry and set(entry) <= {"id", "owned"}
 
     stored = [f"{name}.{i}" for name in LISTS for i, entry in enumerate(body.get(name) or ())
               if is_ref(entry)]
@@ -259,6 +259,10 @@ def front_table(answer: Mapping[str, Any], body: Mapping[str, Any], *, max_rows:
 def _label(body: Mapping[str, Any], kind: str, row: Mapping[str, Any]) -> str:
     """A component as the request gave it: its name, its stored id, or 'none' for null."""
     index = row["indices"][kind]
+    if kind == "camera" and index is None:  # a visual combination: its eyepiece stands there
+        kind, index = "eyepiece", row["indices"].get("eyepiece")
+        if index is None:
+            return "none (the train's eyepiece)"
     entries = body.get(f"{kind}s") or [None]
     if kind == "train" and "trains" not in body and body.get("modifiers"):  # the old name
         entries = [[] if m is None else [m] for m in body["modifiers"]]
@@ -274,6 +278,8 @@ def _label(body: Mapping[str, Any], kind: str, row: Mapping[str, Any]) -> str:
         text = f"id {entry['id']}"
     else:
         text = entry.get("name") or f"{kind} {index}"
-    if len(text) > LABEL_WIDTH:
-        text = text[:LABEL_WIDTH - 1] + "…"
-    return text
+    binning = row["indices"].get("binning") or 1
+    suffix = f" ({binning}×{binning} binned)" if kind == "camera" and binning > 1 else ""
+    if len(text) + len(suffix) > LABEL_WIDTH:
+        text = text[:LABEL_WIDTH - 1 - len(suffix)] + "…"
+    return text + suffix

@@ -1,7 +1,9 @@
 """A purchase evaluation as CSV: one line per row of the front, then of the top, then the baseline.
 
 Columns: ``set`` (front, top or baseline), ``rank`` (1-based within its set), the four indices into
-the request's lists, the four stored ids (empty when inline or none), one column per constrained or
+the request's lists, ``binning`` (the factor; empty for a visual combination) and ``eyepiece`` (its
+index, empty for an imaging one), the five stored ids (empty when inline or none), one column per
+constrained or
 objective output with its unit in the header (as a comparison's CSV writes them), and ``score``.
 Every cell is a number, a fixed word or empty, so no cell can be read as a spreadsheet formula.
 After the table comes the final block of the calculators' cautions, as in a comparison's CSV
@@ -17,6 +19,10 @@ from api.comparisons.csv_table import cautions_block, header
 from calculators.batch import AXES
 from calculators.evaluation_schemas import EvaluationResult, EvaluationRow
 
+#: Index columns: one per axis, then the binning factor and the eyepiece of a visual combination.
+INDICES = (*AXES, "binning", "eyepiece")
+IDS = (*AXES, "eyepiece")
+
 
 def _cell(value: object) -> object:
     if value is None:
@@ -31,7 +37,7 @@ def evaluation_csv(result: EvaluationResult) -> str:
     buffer = io.StringIO()
     writer = csv.writer(buffer, lineterminator="\r\n")  # RFC 4180 line breaks
     writer.writerow([
-        "set", "rank", *AXES, *(f"{kind}_id" for kind in AXES),
+        "set", "rank", *INDICES, *(f"{kind}_id" for kind in IDS),
         *(header(*key.split(".", 1), result.units[key]) for key in keys), "score",
     ])
 
@@ -39,8 +45,8 @@ def evaluation_csv(result: EvaluationResult) -> str:
         for rank, row in enumerate(rows, 1):
             indices, ids = row.indices, row.ids
             writer.writerow([_cell(v) for v in (
-                name, rank, *(getattr(indices, kind) for kind in AXES),
-                *(getattr(ids, kind) for kind in AXES), *(row.values.get(key) for key in keys),
+                name, rank, *(getattr(indices, kind, None) for kind in INDICES),
+                *(getattr(ids, kind, None) for kind in IDS), *(row.values.get(key) for key in keys),
                 row.score,
             )])
 

@@ -20,6 +20,7 @@ from api.evaluations.saved import (
 from api.storage.models import SavedEvaluationRow
 from calculators.batch import AXES
 from calculators.evaluation_schemas import EvaluationResult, Indices
+from calculators.ownership import as_owned, is_owned
 
 #: Most value changes listed in a re-run's answer (the whole new answer is there too).
 MAX_VALUE_CHANGES = 200
@@ -63,10 +64,13 @@ def rerun_components(row: SavedEvaluationRow, current: dict[tuple[str, int], Any
     the stored id of each entry (None for inline ones)."""
     lists = saved_components(row)
     for (kind, index, position), model in current.items():
+        # Owned as it was when saved (the request said so, or it was the saver's own item).
         if position is None:
-            lists[AXES.index(kind)][index] = model
+            was = lists[AXES.index(kind)][index]
+            lists[AXES.index(kind)][index] = as_owned(model, is_owned(was))
         else:  # an element of a train
-            lists[AXES.index(kind)][index][position] = model
+            was = lists[AXES.index(kind)][index][position]
+            lists[AXES.index(kind)][index][position] = as_owned(model, is_owned(was))
     ids = {kind: [None] * len(items) for kind, items in zip(AXES, lists)}
     ids["train"] = [[None] * len(train) for train in lists[AXES.index("train")]]
     for entry in row.spec.get("stored", []):
@@ -79,7 +83,12 @@ def rerun_components(row: SavedEvaluationRow, current: dict[tuple[str, int], Any
 
 def changes(saved: EvaluationResult, now: EvaluationResult) -> AnswerChanges:
     def key(row) -> tuple[int, ...]:
-        return tuple(getattr(row.indices, kind) for kind in AXES)
+        # A combination is also told apart by its binning factor (a result saved before binning
+        # existed reads as 1) and its eyepiece; sorted with -1 for "none".
+        ix = row.indices
+        return (*(-1 if getattr(ix, k) is None else getattr(ix, k) for k in AXES),
+                ix.binning or 1 if ix.eyepiece is None else -1,
+                -1 if ix.eyepiece is None else ix.eyepiece)
 
     before = {key(r): r for r in [*saved.front, *saved.top]}
     after = {key(r): r for r in [*now.front, *now.top]}
@@ -93,7 +102,8 @@ def changes(saved: EvaluationResult, now: EvaluationResult) -> AnswerChanges:
                 moved.append(ValueChange(indices=before[k].indices, key=name, saved=a, now=b))
 
     def indices(keys) -> list[Indices]:
-        return [Indices(**dict(zip(AXES, k))) for k in keys]
+        names = (*AXES, "binning", "eyepiece")
+        return [Indices(**{n: None if v == -1 else v for n, v in zip(names, k)}) for k in keys]
 
     was, is_now = set(front_before), set(front_after)
     return AnswerChanges(

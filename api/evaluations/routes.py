@@ -18,7 +18,7 @@ from api.evaluations.request import (
     check_size,
     inline_components,
     needs_database,
-    resolve_components,
+    resolve_request,
     sizes,
     with_site,
 )
@@ -46,7 +46,8 @@ CSV_RESPONSE = {
 @router.post(
     "", response_model=EvaluationResult, operation_id="evaluate_combinations",
     summary="Sweep combinations of candidate equipment",
-    description="Every combination of the telescopes, cameras, trains and mounts given is "
+    description="Every combination of the telescopes, cameras (at each binning factor) or "
+    "eyepieces, trains and mounts given is "
     "computed with the calculators named in `constraints` and `objectives`; the answer counts "
     "them, lists every Pareto-optimal feasible combination (`front`) and the `limit` best by score "
     "(`top`). Products above the service's maximum (`RIGBENCH_MAX_COMBINATIONS`) are refused.",
@@ -59,9 +60,9 @@ async def create_evaluation(body: EvaluationRequest, request: Request, caller: C
     check_size(body, maximum)
     await rate_limits(request).count_compute(caller.key_id if caller else None, client_address(request))
     if needs_database(body):
-        components, ids = await run_in_threadpool(resolve_components, state.engine, caller, body)
+        components, ids, eyepieces = await run_in_threadpool(resolve_request, state.engine, caller, body)
     else:
-        components, ids = inline_components(body), None
+        components, ids, eyepieces = inline_components(body), None, list(body.eyepieces)
     site, site_id = body.site, None
     if isinstance(site, Ref):
         site, site_id = await run_in_threadpool(read_site, state.engine, caller, site)
@@ -71,7 +72,7 @@ async def create_evaluation(body: EvaluationRequest, request: Request, caller: C
         result = await run_heavy(
             request, budget, evaluate_spec, *components, body, check=budget.check,
             calculators=state.registry.calculators, ids=ids, max_combinations=maximum,
-            max_front_rows=MAX_FRONT_ROWS,
+            max_front_rows=MAX_FRONT_ROWS, eyepieces=eyepieces,
         )
     except EvaluationError as exc:
         raise as_problem(exc, sizes(body)) from None

@@ -17,10 +17,12 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from calculators.batch import AXES, RigBatch
+from calculators.batch import RigBatch
 from calculators.evaluation_schemas import EvaluationSpec
 from calculators.schemas import MIN_FOCAL_RATIO
 from calculators.sweep import EvaluationError, resolve_key
+from calculators.sweep.detectors import entries
+from calculators.sweep.plan import baseline_indices
 from plugins.runner import parse_params, run
 
 #: Most combinations computed for the chart's cloud of feasible points.
@@ -30,7 +32,8 @@ SEED = 20261202
 
 @dataclass(frozen=True)
 class Sample:
-    """Sampled combinations: ``indices`` (n, 4), ``values`` per key (n,), ``feasible`` (n,)."""
+    """Sampled combinations: ``indices`` (n, 5: telescope, camera, train, mount, binning factor),
+    ``values`` per key (n,), ``feasible`` (n,)."""
 
     evaluated: int
     indices: np.ndarray
@@ -59,13 +62,17 @@ def pick(evaluated: int, size: int = SAMPLE_SIZE, seed: int = SEED) -> np.ndarra
 
 def sample(components: Sequence[Sequence], spec: EvaluationSpec, calculators: Mapping,
            size: int = SAMPLE_SIZE) -> Sample:
-    sizes = tuple(len(items) for items in components)
+    # The camera axis holds each camera at each binning factor, as the sweep lays it out.
+    axis = entries(components[1], spec.binning, ())
+    sizes = (len(components[0]), axis.size, len(components[2]), len(components[3]))
     evaluated = math.prod(sizes)
     flat = pick(evaluated, size)
-    base = int(np.ravel_multi_index(tuple(getattr(spec.baseline, k) for k in AXES), sizes))
+    base = int(np.ravel_multi_index(baseline_indices(spec.baseline, sizes, axis), sizes))
     rows = np.union1d(flat, [base])
     index = np.unravel_index(rows, sizes)
-    sweep = RigBatch.from_components(*components)
+    sweep = RigBatch.from_components(components[0], axis.cameras, components[2], components[3],
+                                     binning=axis.binning, accessories=spec.accessories,
+                                     geometry=spec.geometry)
     columns = {}
     for name, column in sweep.columns.items():
         column = np.asarray(column)
@@ -99,5 +106,8 @@ def sample(components: Sequence[Sequence], spec: EvaluationSpec, calculators: Ma
         if bounds.max is not None:
             feasible &= v <= bounds.max
     keep = np.isin(rows, flat)  # the baseline only served as the reference row
-    return Sample(evaluated, np.stack(index, axis=1)[keep], {k: v[keep] for k, v in values.items()},
-                  feasible[keep])
+    # Indices as the answer's rows name them: telescope, camera, train, mount, binning factor.
+    cameras = np.array(axis.camera_index)[index[1]]
+    factors = np.array(axis.binning)[index[1]]
+    named = np.stack((index[0], cameras, index[2], index[3], factors), axis=1)
+    return Sample(evaluated, named[keep], {k: v[keep] for k, v in values.items()}, feasible[keep])

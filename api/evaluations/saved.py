@@ -18,7 +18,7 @@ from __future__ import annotations
 from datetime import datetime
 from typing import Any, Literal
 
-from pydantic import BaseModel, Field, ValidationError, field_validator
+from pydantic import BaseModel, Field, TypeAdapter, ValidationError, field_validator
 from sqlalchemy import Engine
 from sqlmodel import Session, select
 
@@ -29,6 +29,7 @@ from api.evaluations.request import (
     entries_of,
     EvaluationRequest,
     as_problem,
+    candidate,
     check_size,
     inline_components,
     needs_database,
@@ -44,19 +45,34 @@ from api.storage import store
 from api.storage.models import CameraRow, MountRow, SavedEvaluationRow, TelescopeRow, TrainElementRow, Visibility
 from calculators.batch import AXES
 from calculators.evaluation_schemas import EvaluationResult
-from calculators.schemas import Name
+from calculators.ownership import CandidateTrainElement, candidate_model
+from calculators.schemas import Camera, Name
 from calculators.sweep import EvaluationError, evaluate_spec
 from calculators.train_elements import train_element
 
 TABLES = {"telescope": TelescopeRow, "camera": CameraRow, "train": TrainElementRow, "mount": MountRow}
 
 
+_CANDIDATE_ELEMENT = TypeAdapter(CandidateTrainElement)
+
+
 def _model(kind: str, spec: dict) -> Any:
-    return train_element(spec) if kind == "train" else MODELS[kind].model_validate(spec)
+    """A component from its stored spec or saved copy (a copy keeps ``owned``, as it was computed)."""
+    if kind == "train":
+        return _CANDIDATE_ELEMENT.validate_python(spec)
+    return candidate_model(MODELS[kind]).model_validate(spec)
 
 
 def _dump(item: Any) -> Any:
     return None if item is None else item.model_dump(mode="json", exclude_none=True)
+
+
+def _spec(item: Any) -> Any:
+    """What the item is, without whether the caller owns it (which is no property of the item)."""
+    dumped = _dump(item)
+    if isinstance(dumped, dict):
+        dumped.pop("owned", None)
+    return dumped
 LABEL = "saved evaluation"
 
 
@@ -67,6 +83,19 @@ class SavedEvaluationCreate(EvaluationRequest):
     visibility: Visible = Visibility.private
 
     _name_has_no_nul = field_validator("name")(refuse_nul)
+
+    # The report page and re-runs show cameras: visual combinations are not kept yet.
+    cameras: list[candidate(Camera)] = Field(
+        min_length=1, description='Inline cameras or {"id": N} of stored ones you may read, each '
+        "may say `owned` (a saved evaluation needs at least one; it does not keep eyepieces yet).")
+
+    @field_validator("eyepieces")
+    @classmethod
+    def _no_eyepieces(cls, value: list) -> list:
+        if value:
+            raise ValueError("a saved evaluation does not keep eyepieces yet; evaluate visual "
+                             "combinations with POST /v1/evaluations")
+        return value
 
 
 Status = Literal["unchanged", "changed", "retired", "gone"]
@@ -168,7 +197,7 @@ def check_copies(session: Session, principal: Principal, body: SavedEvaluationCr
         copy = components[AXES.index(kind)][i]
         now = _model(kind, spec[kind]) if j is None else train_element(spec["train"][0])
         where = f"{LISTS[kind]}.{i}" if j is None else f"{LISTS[kind]}.{i}.{j}"
-        if now != (copy if j is None else copy[j]):
+        if _spec(now) != _spec(copy if j is None else copy[j]):
             raise ApiProblem(409, f"{where}: {kind} {ref.id} changed while the evaluation was "
                              "computed; send the request again", errors=[
                                  FieldError(field=f"{where}.id", message="changed while computing")])
@@ -195,7 +224,7 @@ def saved_components(row: SavedEvaluationRow) -> tuple[list[Any], ...]:
     """The components the saved answer was computed from, as calculator models."""
     copies = row.spec["components"]
     return tuple(
-        [[train_element(e) for e in c] if kind == "train" else None if c is None else _model(kind, c)
+        [[_model(kind, e) for e in c] if kind == "train" else None if c is None else _model(kind, c)
          for c in copies[LISTS[kind]]]
         for kind in AXES
     )
@@ -234,8 +263,9 @@ def stored_equipment(session: Session, row: SavedEvaluationRow, principal: Princ
                 except ValidationError:
                     model = None  # unreadable under today's schema: the saved copy stands in
                 if model is not None:
-                    now = model.model_dump(mode="json", exclude_none=True)
-                    changed = sorted(k for k in {*now, *saved} if now.get(k) != saved.get(k))
+                    now = _spec(model)
+                    was = {k: v for k, v in saved.items() if k != "owned"}
+                    changed = sorted(k for k in {*now, *was} if now.get(k) != was.get(k))
                     status = "changed" if changed else "unchanged"
                     current[(kind, entry["index"], position)] = model
             entries.append(StoredEntry(kind=kind, index=entry["index"], position=position, id=entry["id"],

@@ -123,8 +123,9 @@ def _name(kind: str, index: int, part) -> str:
     return getattr(part, "name", None) or f"{kind} {index + 1}"
 
 
-def indices_of(row: EvaluationRow) -> tuple[int, int, int, int]:
-    return tuple(getattr(row.indices, kind) for kind in AXES)
+def indices_of(row: EvaluationRow) -> tuple[int, ...]:
+    """The row's four indices and its binning factor (1 for a result saved before binning)."""
+    return (*(getattr(row.indices, kind) for kind in AXES), row.indices.binning or 1)
 
 
 def _parts(components, row: EvaluationRow, entries: Mapping[tuple[str, int], Entry]) -> list[dict]:

@@ -5,6 +5,11 @@ Formulas (units in the names; C is the currency):
 * ``total_price = Σ price`` over the priced components — telescope, train (its elements), camera, mount and
   accessories — in one currency [C]; unpriced components add nothing, and a rig with no price at
   all has a null total;
+* ``purchase_price = Σ price`` over the priced parts *not owned* [C]: what is left to buy to go with
+  what one has. A part is owned when it is marked so (:mod:`calculators.ownership`: ``"owned": true``
+  on an evaluation's candidate, stored items of the caller by default). It is null where
+  ``total_price`` is, 0 when every priced part is owned, and ``total_price`` itself when none is, so
+  ``0 ≤ purchase_price ≤ total_price``;
 * ``price_per_cm2 = total_price / A_clear`` [C/cm²], with ``A_clear = π/4·(D² − d²)`` the collecting
   area net of the central obstruction, converted from mm² (1 cm² = 100 mm²);
 * ``price_per_etendue_cm2_deg2 = total_price / (A_clear · Ω)`` [C/(cm²·deg²)], Ω the solid angle of
@@ -24,6 +29,7 @@ Example: a 1000 EUR telescope of 200 mm aperture with a 60 mm obstruction (A = 2
 
 from __future__ import annotations
 
+import functools
 from typing import Annotated
 
 import numpy as np
@@ -86,7 +92,10 @@ def _first_currency(batch: RigBatch) -> str | None:
     """The currency of the first priced component found, or None if nothing is priced."""
     for _, _, currency, priced in _priced_slots(batch):
         # A price and its currency come from the same component, so they share a shape.
-        return str(np.broadcast_to(currency, priced.shape).flat[int(np.argmax(priced))])
+        # A comparison's columns share their shape already: a broadcast view would only cost.
+        if getattr(currency, "shape", None) != priced.shape:
+            currency = np.broadcast_to(currency, priced.shape)
+        return str(currency.flat[int(np.argmax(priced))])
     return None
 
 
@@ -133,20 +142,41 @@ def total_price(batch: RigBatch, params: CostParams) -> np.ndarray:
 
     Raises CalculationError for prices in several currencies without the rates to convert them.
     """
+    return _prices(batch, params)[0]
+
+
+def _prices(batch: RigBatch, params: CostParams) -> tuple[np.ndarray, np.ndarray]:
+    """``(total_price, purchase_price)``: the second the same sum over the parts not owned (the
+    ``<slot>_purchase_price`` columns), null where the total is; the very total array when no part
+    in the batch is owned."""
     target = batch_currency(batch, params)
     if target is None:
-        return np.full((1,) * len(batch.shape), np.nan)
-    total = None
-    any_priced = None
-    for slot, price, currency, priced in _priced_slots(batch):
-        rate = _rate(slot, currency, priced, target, params.exchange_rates)
-        converted = price if rate is None else price * rate
-        # fmax treats NaN as missing, so an unpriced component adds 0 (prices are ≥ 0): the total
-        # is of what is priced. One cheap pass, where a masked add would take several.
-        converted = np.fmax(converted, 0.0)
-        total = converted if total is None else total + converted
-        any_priced = priced if any_priced is None else any_priced | priced
-    return np.where(any_priced, total, np.nan)  # null where nothing at all is priced
+        nothing = np.full((1,) * len(batch.shape), np.nan)
+        return nothing, nothing
+    slots = [(slot, price, priced, _rate(slot, currency, priced, target, params.exchange_rates))
+             for slot, price, currency, priced in _priced_slots(batch)]
+
+    def added(column_of) -> np.ndarray:
+        total = None
+        for slot, price, _priced, rate in slots:
+            column = column_of(slot, price)
+            # fmax treats NaN as missing, so an unpriced component adds 0 (prices are ≥ 0): the
+            # total is of what is priced. One cheap pass, where a masked add would take several.
+            converted = np.fmax(column if rate is None else column * rate, 0.0)
+            total = converted if total is None else total + converted
+        return total
+
+    any_priced = functools.reduce(np.logical_or, [priced for _, _, priced, _ in slots])
+    total = np.where(any_priced, added(lambda slot, price: price), np.nan)  # null: nothing priced
+    columns = getattr(batch, "columns", batch)
+    to_buy = {slot: columns.get(f"{slot}_purchase_price", price) for slot, price, _, _ in slots}
+    if all(_same(to_buy[slot], price) for slot, price, _, _ in slots):
+        return total, total  # nothing owned: what is left to buy is everything
+    return total, np.where(any_priced, added(lambda slot, price: to_buy[slot]), np.nan)
+
+
+def _same(a: np.ndarray, b: np.ndarray) -> bool:
+    return a is b or (np.shape(a) == np.shape(b) and bool(np.array_equal(a, b, equal_nan=True)))
 
 
 class Cost(Calculator):
@@ -169,12 +199,16 @@ class Cost(Calculator):
     """
 
     name = "cost"
-    version = "1.0.0"
-    summary = "Total price, price per cm² of clear aperture and per unit of étendue."
+    version = "1.1.0"
+    summary = ("Total price, what is left to buy, price per cm² of clear aperture and per unit of "
+               "étendue.")
     Params = CostParams
     outputs = (
         Output("total_price", "", "Sum of the priced components, in the batch's one currency "
                "(the unit is the currency code).", nullable=True, label="Price"),
+        Output("purchase_price", "", "What is left to buy: the summed price of the priced parts "
+               "not marked owned, in the same currency (0 when you own every priced part; "
+               "total_price when you own none).", nullable=True, label="Price to buy"),
         Output("price_per_cm2", "", "Total price per cm² of clear aperture (net of the obstruction).",
                nullable=True, label="Price per aperture area"),
         Output("price_per_etendue_cm2_deg2", "",
@@ -187,11 +221,12 @@ class Cost(Calculator):
     )
 
     def compute(self, batch: RigBatch, params: CostParams) -> dict[str, np.ndarray]:
-        total = total_price(batch, params)
+        total, purchase = _prices(batch, params)
         area_cm2 = batch_clear_area_mm2(batch) * 1e-2
         per_cm2 = total / area_cm2
         return {
             "total_price": total,
+            "purchase_price": purchase,
             "price_per_cm2": per_cm2,
             "price_per_etendue_cm2_deg2": per_cm2 / field_solid_angle_deg2(batch),
         }
@@ -203,6 +238,7 @@ class Cost(Calculator):
             return {o.name: "" for o in self.outputs}
         return {
             "total_price": currency,
+            "purchase_price": currency,
             "price_per_cm2": f"{currency}/cm^2",
             "price_per_etendue_cm2_deg2": f"{currency}/(cm^2*deg^2)",
         }

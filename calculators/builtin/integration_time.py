@@ -34,6 +34,15 @@ once it raises the noise of one sub-exposure's background by at most a fraction 
 
 Missing camera data (quantum efficiency, read noise or dark current) give null results.
 
+**Binning** (the rig's ``binning`` b, 1 by default; see :mod:`calculators.binning`): every figure is
+per *binned* pixel, the sum of b × b of the sensor's pixels after readout (CMOS; convention, common
+practice). Object, sky and dark rates are then b² times a pixel's (the pixel's solid angle Ω is the
+binned pixel scale squared), and the read noise of the sum is b·R — independent read noises add in
+quadrature, √(b²·R²) (Howell 2006 §4.4 gives the CCD equation per pixel; a CCD that bins charge
+before readout would pay R once, which is not modelled). Every term under the CCD equation's root
+then grows as b², so the time to a given S/N per binned pixel is exactly 1/b² of the unbinned one, the
+S/N of one sub-exposure b times it, and the sky-limited sub length does not change.
+
 **Emission-line objects** (params ``line`` and ``line_surface_brightness_rayleigh``, or
 ``line_surface_brightness_erg_s_cm2_arcsec2``): the object is a named line of the given surface
 brightness instead of a continuum (see :mod:`calculators.builtin.emission_lines` for the lines, the
@@ -67,6 +76,7 @@ from pydantic import Field, ValidationInfo, field_validator, model_validator
 
 from calculators.base import Calculator, Output
 from calculators.batch import RigBatch
+from calculators.binning import binned_dark_current_e_per_s, binned_pixel_um, binned_read_noise_e
 from calculators.builtin import emission_lines as lines
 from calculators.builtin.cautions import SUN_CAUTION
 from calculators.builtin.light_grasp import clear_area_mm2
@@ -178,7 +188,7 @@ def ccd_total_time_s(snr, object_rate, background_rate, read_noise_e, sub_exposu
 
 class IntegrationTime(Calculator):
     name = "integration_time"
-    version = "1.1.0"
+    version = "1.2.0"
     summary = "Per-pixel electron rates, total integration time to a target S/N, sub-exposures, sky-limited sub length."
     Params = IntegrationTimeParams
     outputs = (
@@ -211,13 +221,15 @@ class IntegrationTime(Calculator):
         "Read noise negligible when it adds ≤ 5 % to the background noise: common practice.",
         "Hunten, D. M., Roach, F. E. & Chamberlain, J. W., J. Atmos. Terr. Phys. 8, 345 (1956): the "
         "rayleigh, 10¹⁰/(4π) photons s⁻¹ m⁻² sr⁻¹.",
+        "Binned pixels summed after readout (CMOS): signal, sky and dark ×b², read noise ×b: "
+        "common practice.",
         "Top-hat filter passbands and the Bayer fraction of pixels that see a line (red ¼, blue and "
         "green ¾): common practice.",
     )
     cautions = (SUN_CAUTION,)
 
     def compute(self, batch: RigBatch, params: IntegrationTimeParams) -> dict[str, np.ndarray]:
-        scale = pixel_scale_arcsec(batch["pixel_size_um"], effective_focal_length_mm(batch))
+        scale = pixel_scale_arcsec(binned_pixel_um(batch), effective_focal_length_mm(batch))
         area_m2 = clear_area_mm2(batch["aperture_mm"], batch["obstruction_mm"]) * 1e-6
         collecting = (area_m2 * batch["telescope_throughput"] * batch["train_throughput"]
                       * batch["quantum_efficiency"] * np.square(scale))
@@ -236,8 +248,8 @@ class IntegrationTime(Calculator):
             passed = lines.line_passed(params.line, centre, width, peak)
             signal = rayleigh * lines.RAYLEIGH_PHOTONS_M2_ARCSEC2 * passed * collecting
             fraction = np.where(colour_sensor(batch), lines.bayer_fraction(params.line), 1.0)
-        dark = batch["dark_current_e_per_s"]
-        read = batch["read_noise_e"]
+        dark = binned_dark_current_e_per_s(batch)
+        read = binned_read_noise_e(batch)
         t = params.sub_exposure_s
         with np.errstate(divide="ignore", invalid="ignore"):
             total = ccd_total_time_s(params.target_snr, signal, sky + dark, read, t) / fraction

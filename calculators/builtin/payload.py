@@ -25,6 +25,16 @@ Formulas (SI inside; units in the names; lengths arrive in mm and are converted 
 
 Every output is null (NaN) where an input it needs is missing.
 
+Counterweights (the convention rigbench uses): a mount's ``capacity_kg`` is its rated *instrument*
+payload, what sits on the saddle — the counterweights that balance it are not part of it, and
+``payload_kg`` never includes them, however heavy (mount makers usually rate the instrument payload
+without the counterweights: common practice, from memory; the maker's own statement of its rating
+comes first). The counterweights are part of what a person lifts: each rig's cautions name a
+counterweight heavier than a safe single lift (:mod:`calculators.rig_cautions`), and the
+counterweight mass enters the moments and the inertia about the right-ascension axis below. A rig's
+accessories are in the payload wherever the rig is computed — stored, inline, or as a sweep's
+``accessories``, which every combination carries.
+
 Example: an 8 kg tube, 1 kg camera, 1 kg of accessories (10 kg) on a mount rated for 20 kg:
 capacity_fraction 0.5 and an imaging margin of 0 kg; at a 300 mm arm with a 10 kg counterweight,
 payload_moment_nm = 9.80665 · 10 · 0.3 ≈ 29.4 N·m and the counterweight balances at 300 mm.
@@ -97,7 +107,8 @@ class Payload(Calculator):
     summary = "Payload against the mount's rating, wind force on the tube, moments and inertia."
     Params = PayloadParams
     outputs = (
-        Output("payload_kg", "kg", "Telescope + train + camera + accessories.", nullable=True,
+        Output("payload_kg", "kg", "Telescope + train + camera + accessories (counterweights "
+               "are not part of the rated payload).", nullable=True,
                label="Payload"),
         Output("capacity_fraction", "", "Payload ÷ the mount's rated capacity.", nullable=True,
                label="Mount load"),

@@ -10,8 +10,15 @@ Formulas (units in the names; f is the effective focal length through the train,
   ``max_pixels_per_fwhm`` (default 3), "well-sampled" between (bounds included). The lower bound is the sampling
   theorem's two samples per resolution element (Nyquist 1928; Shannon 1949) applied to the seeing
   FWHM; the 2–3 band is common practice;
-* ``suggested_binning``: the coarsest binning b (1 … ``max_binning``) that still keeps
-  ``pixels_per_fwhm / b ≥ min_pixels_per_fwhm`` — 1 when the sensor is not over-sampled enough to bin.
+* ``suggested_binning``: the coarsest binning b (1 … ``max_binning``) that still keeps the sensor's
+  own pixels per FWHM over b at least ``min_pixels_per_fwhm`` — 1 when the sensor is not over-sampled
+  enough to bin; null for a rig without a camera (a visual rig), with that reason.
+
+**Binning** (the rig's ``binning`` b, 1 by default; see :mod:`calculators.binning`): the pixel is
+then the binned one, b times the pitch, so ``pixel_scale_arcsec``, ``pixels_per_fwhm``, the verdict
+and the colour figures are the binned pixel's, and ``image_width_px`` / ``image_height_px`` (the
+image's size in binned pixels) are ⌊width_px / b⌋ and ⌊height_px / b⌋. The field (an angle) is the
+sensor's whatever the binning; ``suggested_binning`` is always counted on the sensor's own pixels.
 
 * ``colour_pixel_scale_arcsec``: a colour (Bayer) sensor samples each colour on a grid of 2 × 2 cells,
   so its colour sampling is twice the pixel scale (convention, common practice: the green pixels'
@@ -29,6 +36,7 @@ from pydantic import Field, model_validator
 
 from calculators.base import Calculator, Output
 from calculators.batch import RigBatch, per_batch
+from calculators.binning import binned_pixel_um, binned_pixels, binning
 from calculators.builtin.speed import effective_focal_length_mm
 from calculators.schemas import Strict
 
@@ -105,7 +113,7 @@ class Sampling(Calculator):
     """
 
     name = "sampling"
-    version = "1.1.0"
+    version = "1.2.0"
     summary = "Pixel scale, field of view, and how the pixels sample the seeing."
     Params = SamplingParams
     outputs = (
@@ -119,8 +127,15 @@ class Sampling(Calculator):
         Output("pixels_per_fwhm", "", "Pixels across the seeing FWHM.", label="Pixels per seeing FWHM"),
         Output("sampling_verdict", "", "under-sampled, well-sampled or over-sampled, by the "
                "min/max pixels per FWHM criterion.", kind="text", label="Sampling"),
-        Output("suggested_binning", "", "Coarsest binning that keeps at least min_pixels_per_fwhm.",
-               label="Suggested binning", integer=True),
+        Output("suggested_binning", "", "Coarsest binning of the sensor's own pixels that keeps at "
+               "least min_pixels_per_fwhm (null without a camera).", nullable=True,
+               needs=("pixel_size_um",), label="Suggested binning", integer=True),
+        Output("image_width_px", "pixel", "Pixels across the image's width at the rig's binning, "
+               "⌊width_px / b⌋.", nullable=True, needs=("pixel_size_um",),
+               label="Image width in pixels", integer=True),
+        Output("image_height_px", "pixel", "Pixels across the image's height at the rig's binning, "
+               "⌊height_px / b⌋.", nullable=True, needs=("pixel_size_um",),
+               label="Image height in pixels", integer=True),
         Output("colour_pixel_scale_arcsec", "arcsec", "Sampling of each colour: twice the pixel scale "
                "for a colour (Bayer) sensor, the pixel scale for a mono one.", nullable=True,
                label="Colour pixel scale"),
@@ -138,11 +153,13 @@ class Sampling(Calculator):
         "Two samples per resolution element: Nyquist 1928, Shannon 1949 (sampling theorem); "
         "the 2–3 pixels per FWHM band: common practice.",
         "Colour sampling of a Bayer mosaic at twice the pixel pitch: common practice.",
+        "Binning b × b pixels into one: a pixel b times the pitch, ⌊n / b⌋ of them per side.",
     )
 
     def compute(self, batch: RigBatch, params: SamplingParams) -> dict[str, np.ndarray]:
         focal_mm = effective_focal_length_mm(batch)
-        scale = pixel_scale_arcsec(batch["pixel_size_um"], focal_mm)
+        factor = binning(batch)
+        scale = pixel_scale_arcsec(binned_pixel_um(batch), focal_mm)
         width_mm, height_mm = sensor_size_mm(batch)
         diagonal_mm = np.sqrt(width_mm * width_mm + height_mm * height_mm)
         twice_f = 2 * focal_mm
@@ -152,7 +169,8 @@ class Sampling(Calculator):
         code += ppf > params.max_pixels_per_fwhm
         sensor = batch.columns.get("sensor")
         colour = scale if sensor is None else np.where(np.asarray(sensor) == "colour", 2.0 * scale, scale)
-        binning = np.clip(np.floor(ppf / params.min_pixels_per_fwhm), 1, params.max_binning)
+        # Counted on the sensor's own pixels (ppf · b), so it does not depend on the chosen binning.
+        suggested = np.clip(np.floor(ppf * factor / params.min_pixels_per_fwhm), 1, params.max_binning)
         return {
             "pixel_scale_arcsec": scale,
             "field_width_arcmin": full_angle_arcmin(width_mm, twice_f),
@@ -161,7 +179,10 @@ class Sampling(Calculator):
             "pixels_per_fwhm": ppf,
             # No camera (a visual rig): no verdict ("" and the figures above null, with the reason).
             "sampling_verdict": np.where(np.isnan(ppf), "", VERDICTS[code]),
-            "suggested_binning": binning.astype(np.int16),
+            # NaN (null, "the rig has no camera") where there is no pixel: clip keeps NaN.
+            "suggested_binning": suggested,
+            "image_width_px": binned_pixels(batch["width_px"], factor),
+            "image_height_px": binned_pixels(batch["height_px"], factor),
             "colour_pixel_scale_arcsec": colour,
             "colour_pixels_per_fwhm": params.seeing_fwhm_arcsec / colour,
         }

@@ -9,7 +9,8 @@ Formulas (a, b the object's major and minor axes in arcmin; W, H the sensor's si
 effective focal length):
 
 * field ``F_w = 2·atan(W / 2f)``, ``F_h = 2·atan(H / 2f)`` in arcmin (exact for a flat sensor);
-* ``major_axis_px = a / s`` with the pixel scale ``s = 206 264.806″ · p / f``;
+* ``major_axis_px = a / s`` with the pixel scale ``s = 206 264.806″ · b·p / f`` of the rig's binned
+  pixel (binning b, 1 by default: see :mod:`calculators.binning`); the field does not depend on b;
 * ``fill_fraction = (π/4 · a · b) / (F_w · F_h)`` — the object's ellipse over the field's rectangle,
   both as flat areas on the sky (fine for fields of a few degrees);
 * ``fits_in_field`` when ``a ≤ max(F_w, F_h)`` and ``b ≤ min(F_w, F_h)``, i.e. the ellipse fits with its
@@ -31,6 +32,7 @@ from pydantic import Field, field_validator
 
 from calculators.base import Calculator, Output
 from calculators.batch import RigBatch
+from calculators.binning import binned_pixel_um
 from calculators.builtin.catalogue import CREDIT, lookup
 from calculators.builtin.integration_time import SUN_CAUTION
 from calculators.builtin.optics import (
@@ -70,7 +72,7 @@ def panels_along(length, frame, overlap):
 
 class TargetFit(Calculator):
     name = "target_fit"
-    version = "1.0.0"
+    version = "1.1.0"
     summary = "A catalogue object's size against each rig's field: fill, pixels across, mosaic panels."
     Params = TargetFitParams
     outputs = (
@@ -84,7 +86,8 @@ class TargetFit(Calculator):
                label="Field width"),
         Output("field_height_arcmin", "arcmin", "Field along the sensor's height, 2·atan(H/2f).",
                label="Field height"),
-        Output("major_axis_px", "pixel", "Pixels across the object's major axis.",
+        Output("major_axis_px", "pixel", "Pixels (binned ones, at the rig's binning) across the "
+               "object's major axis.",
                label="Target major axis in pixels"),
         Output("fill_fraction", "", "Area of the object's ellipse over the area of the field.",
                label="Field filled"),
@@ -108,7 +111,7 @@ class TargetFit(Calculator):
         field_w = field_angle_arcmin(width_mm, focal)
         field_h = field_angle_arcmin(height_mm, focal)
         long_side, short_side = np.maximum(field_w, field_h), np.minimum(field_w, field_h)
-        scale = pixel_scale_arcsec(batch["pixel_size_um"], focal)
+        scale = pixel_scale_arcsec(binned_pixel_um(batch), focal)
         o = params.overlap
         along_width = panels_along(a, field_w, o) * panels_along(b, field_h, o)
         along_height = panels_along(a, field_h, o) * panels_along(b, field_w, o)

@@ -8,7 +8,7 @@ from collections.abc import Callable, Mapping, Sequence
 from typing import Any
 
 import numpy as np
-from pydantic import BaseModel
+from pydantic import BaseModel, ValidationError
 
 from calculators.base import Calculator
 from calculators.batch import AXES, RigBatch, as_train
@@ -21,9 +21,11 @@ from calculators.evaluation_schemas import (
     Indices,
 )
 from calculators.pareto import FrontLimitReached
-from calculators.schemas import Camera, Mount, Telescope
+from calculators.schemas import Accessory, Camera, Geometry, Mount, Telescope, one_currency
+from calculators.train_elements import train_element
 from calculators.rig_cautions import rig_cautions
 from calculators.sweep.chunks import guarded, row_batch, row_values
+from calculators.sweep.detectors import check_visual_trains, entries, product_text
 from calculators.sweep.errors import EvaluationError, FrontTooLarge, TooManyCombinations
 from calculators.sweep.passes import run_passes
 from calculators.sweep.plan import baseline_indices, plan_calculators, stored_ids
@@ -56,14 +58,27 @@ def evaluate(
     max_front_rows: int | None = None,
     check: Callable[[], None] | None = None,
     allow_incompatible: bool = False,
+    accessories: Sequence[Accessory | Mapping[str, Any]] = (),
+    geometry: Geometry | Mapping[str, Any] | None = None,
+    binning: Sequence[int] = (1,),
+    eyepieces: Sequence[Any] = (),
 ) -> EvaluationResult:
     """Sweep telescopes × cameras × trains × mounts; return counts, the front and the top rows.
 
     A train is a list of elements (``[]``: nothing between telescope and camera); an old
     :class:`Modifier` or None is read as a one-element or empty train (see :func:`as_train`).
+    Every camera is swept at each ``binning`` factor, and each of ``eyepieces`` (eyepiece train
+    elements) is a camera-free entry beside them: visual combinations telescope × train ×
+    eyepiece × mount (see :mod:`calculators.sweep.detectors`). ``cameras`` may be empty when
+    ``eyepieces`` are given, or when every train ends in an eyepiece (a visual sweep of explicit
+    trains); a train ending in an eyepiece is refused beside cameras or ``eyepieces``.
+
+    ``accessories`` and ``geometry`` (as a rig's) belong to every combination: they count in
+    its payload, price and moments as they do in a rig compared on its own.
 
     ``calculators`` maps names to calculators (e.g. ``registry.calculators``); ``ids`` optionally
-    gives stored ids per kind (``{"telescope": [7, None, ...], ...}``, aligned with the lists);
+    gives stored ids per kind (``{"telescope": [7, None, ...], ..., "eyepiece": [...]}``, aligned
+    with the lists);
     ``progress(done, total)`` is called after each chunk computed; ``max_front_rows`` refuses
     (:class:`FrontTooLarge`) a front of more rows than an answer should hold, before they are
     built (combinations with equal objective values are all on the front, so ties can make it as
@@ -75,31 +90,43 @@ def evaluate(
     :class:`CalculatorFailed` (also a :class:`CalculationError`).
     """
     lists = (list(telescopes), list(cameras), [as_train(t) for t in trains], list(mounts))
+    eyepieces = [train_element(e) if isinstance(e, dict) else e for e in eyepieces]
     sizes = tuple(len(items) for items in lists)
+    visual_trains = check_visual_trains(lists[2], bool(lists[1]), bool(eyepieces))
     for kind, size in zip(AXES, sizes):
-        if size == 0:
-            hint = {"train": " ([] means none)", "mount": " (null means none)"}.get(kind, "")
+        if size == 0 and not (kind == "camera" and (eyepieces or visual_trains)):
+            hint = {"train": " ([] means none)", "mount": " (null means none)",
+                    "camera": " or eyepiece (`eyepieces`)"}.get(kind, "")
             raise EvaluationError(f"{kind}s: give at least one {kind}{hint}", loc=(f"{kind}s",))
-    evaluated = math.prod(sizes)
+    axis = entries(lists[1], binning, eyepieces, visual_trains)
+    shape = (sizes[0], axis.size, sizes[2], sizes[3])
+    evaluated = math.prod(shape)
     if evaluated > max_combinations:
         raise TooManyCombinations(
-            f"{' × '.join(map(str, sizes))} = {evaluated:,} combinations exceed the maximum of "
-            f"{max_combinations:,}; shorten a list of candidates",
-            loc=(),
+            product_text(sizes, len(axis.factors), len(eyepieces)), evaluated, max_combinations,
+            factors=len(axis.factors), eyepieces=len(eyepieces),
         )
-    base = baseline_indices(baseline, sizes)
+    base = baseline_indices(baseline, shape, axis)
+    accessories, geometry = shared_parts(accessories, geometry)
     if isinstance(limit, bool) or not isinstance(limit, int) or limit < 0:
         raise EvaluationError(f"limit: must be a whole number ≥ 0, got {limit!r}", loc=("limit",))
     if chunk_rows < 1:
         raise ValueError("chunk_rows must be at least 1")
     ids = dict(ids or {})
+    eyepiece_ids = list(ids.pop("eyepiece", None) or [None] * len(eyepieces))
     ids.setdefault("train", [[None] * len(train) for train in lists[2]])  # one per element
     id_lists = stored_ids(ids, sizes)
     bounds, directions, nullable, plans = plan_calculators(
         constraints or {}, objectives, params or {}, calculators
     )
+    if any(c is None for c in axis.cameras):
+        # Visual combinations have no pixels: an imaging output is undefined (null) for them,
+        # which makes them infeasible rather than the calculator broken.
+        nullable = set(directions)
 
-    batch = RigBatch.from_components(*lists, baseline=base)
+    batch = RigBatch.from_components(lists[0], axis.cameras, lists[2], lists[3], baseline=base,
+                                     binning=axis.binning, eyepieces=axis.eyepieces,
+                                     accessories=accessories, geometry=geometry)
     units: dict[str, str] = {}
     labels: dict[str, str] = {}
     for name, plan in plans.items():
@@ -122,24 +149,30 @@ def evaluate(
     if max_front_rows is not None and front.positions.size > max_front_rows:
         raise _front_too_large(front.positions.size, max_front_rows, exact=True)
 
-    base_flat = int(np.ravel_multi_index(base, sizes))
+    base_flat = int(np.ravel_multi_index(base, shape))
     rows_flat = np.unique(np.concatenate(([base_flat], front.positions, top.positions)))
-    values = row_values(batch, plans, rows_flat, sizes, base_flat)
-    row_cautions = rig_cautions(row_batch(batch, rows_flat, sizes, base_flat))
+    values = row_values(batch, plans, rows_flat, shape, base_flat)
+    row_cautions = rig_cautions(row_batch(batch, rows_flat, shape, base_flat))
     keys = list(dict.fromkeys([*bounds, *directions]))
     # Read into plain Python lists once: the front can hold thousands of rows, and per-row numpy
     # scalar access costs more than building the row.
     value_lists = {key: [_number(v) for v in values[key].tolist()] for key in keys}
-    index_lists = [ix.tolist() for ix in np.unravel_index(rows_flat, sizes)]
+    index_lists = [ix.tolist() for ix in np.unravel_index(rows_flat, shape)]
+    splits = [axis.split(k) for k in range(axis.size)]
 
     def rows(positions, scores) -> list[EvaluationRow]:
         # Built without re-validation: trusted numbers, and many of them.
         out = []
         for at, score in zip(np.searchsorted(rows_flat, positions).tolist(), scores):
-            index = {kind: index_lists[axis][at] for axis, kind in enumerate(AXES)}
+            index = {kind: index_lists[a][at] for a, kind in enumerate(AXES)}
+            index.update(splits[index["camera"]])
+            eyepiece = index["eyepiece"]
             out.append(EvaluationRow.model_construct(
                 indices=Indices.model_construct(**index),
-                ids=Ids.model_construct(**{kind: id_lists[kind][i] for kind, i in index.items()}),
+                ids=Ids.model_construct(
+                    **{kind: None if index[kind] is None else id_lists[kind][index[kind]]
+                       for kind in AXES},
+                    eyepiece=None if eyepiece is None else eyepiece_ids[eyepiece]),
                 values={key: value_lists[key][at] for key in keys},
                 cautions=row_cautions[at],
                 score=score,
@@ -162,6 +195,32 @@ def evaluate(
     )
 
 
+def shared_parts(accessories, geometry) -> tuple[list[Accessory], Geometry | None]:
+    """The accessories and geometry every combination shares, validated (EvaluationError naming
+    the field otherwise)."""
+    items = []
+    for i, item in enumerate(accessories):
+        items.append(_valid(Accessory, item, ("accessories", i)))
+    try:
+        one_currency(items)
+    except ValueError as exc:
+        raise EvaluationError(f"accessories: {exc}", loc=("accessories",)) from None
+    if geometry is not None:
+        geometry = _valid(Geometry, geometry, ("geometry",))
+    return items, geometry
+
+
+def _valid(model, value, loc: tuple):
+    if isinstance(value, model):
+        return value
+    try:
+        return model.model_validate(value)
+    except ValidationError as exc:
+        first = exc.errors()[0]
+        where = (*loc, *first["loc"])
+        raise EvaluationError(f"{'.'.join(map(str, where))}: {first['msg']}", loc=where) from None
+
+
 def _front_too_large(count: int, limit: int, exact: bool) -> FrontTooLarge:
     return FrontTooLarge(
         f"objectives: {'' if exact else 'at least '}{count:,} combinations are on the Pareto front, "
@@ -181,12 +240,14 @@ def evaluate_spec(
     **options: Any,
 ) -> EvaluationResult:
     """:func:`evaluate` with the choices of a validated request model (``options``: calculators,
-    ids, max_combinations, chunk_rows, progress, max_front_rows)."""
+    ids, max_combinations, chunk_rows, progress, max_front_rows, eyepieces)."""
+    # An inline request's eyepieces (a service passes them resolved, stored ids read).
+    options.setdefault("eyepieces", getattr(spec, "eyepieces", ()))
     return evaluate(
         telescopes, cameras, trains, mounts,
         objectives=spec.objectives, constraints=spec.constraints, params=spec.params,
         baseline=spec.baseline, limit=spec.limit, allow_incompatible=spec.allow_incompatible,
-        **options,
+        accessories=spec.accessories, geometry=spec.geometry, binning=spec.binning, **options,
     )
 
 

@@ -33,7 +33,32 @@ class ContradictoryBounds(EvaluationError):
 
 
 class TooManyCombinations(EvaluationError):
+    """The product of the candidate lists is above the maximum: ``combinations`` is how many the
+    request asked for and ``maximum`` the limit; the message shows the product, factor by factor
+    (``product``, e.g. ``"3 × (2 × 2) × 4 × 1"``), and which list each factor is."""
+
     title = "Too many combinations"
+
+    def __init__(self, product: str, combinations: int, maximum: int, *, factors: int = 1,
+                 eyepieces: int = 0):
+        self.combinations = combinations
+        self.maximum = maximum
+        super().__init__(
+            f"the request asks for {product} = {combinations:,} combinations "
+            f"({product_legend(factors, eyepieces)}), more than the maximum of {maximum:,}; "
+            "shorten a list of candidates",
+            loc=(),
+        )
+
+
+def product_legend(factors: int = 1, eyepieces: int = 0) -> str:
+    """Which list each factor of the product is, in the product's own grouping."""
+    cameras = "cameras × binning factors" if factors > 1 else "cameras"
+    if eyepieces:
+        cameras = f"({cameras} + eyepieces)"
+    elif factors > 1:
+        cameras = f"({cameras})"
+    return f"telescopes × {cameras} × trains × mounts"
 
 
 class FrontTooLarge(EvaluationError):

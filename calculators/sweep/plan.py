@@ -13,6 +13,7 @@ from pydantic import BaseModel, ValidationError
 from calculators.base import Calculator, Output
 from calculators.batch import AXES
 from calculators.evaluation_schemas import Bounds, Indices
+from calculators.sweep.detectors import Entries
 from calculators.sweep.errors import (
     ContradictoryBounds,
     EvaluationError,
@@ -46,13 +47,18 @@ class Plan:
 
 
 def baseline_indices(
-    baseline: Indices | Sequence[int] | None, sizes: tuple[int, ...]
+    baseline: Indices | Sequence[int] | None, sizes: tuple[int, ...], entries: Entries | None = None,
 ) -> tuple[int, ...]:
-    """The baseline combination's four indices (0, 0, 0, 0 by default), each checked."""
+    """The baseline combination's four indices into the batch's axes (0, 0, 0, 0 by default), each
+    checked. ``sizes`` is the batch's shape; an :class:`Indices` names a camera, binning factor or
+    eyepiece, mapped to the camera axis's entry through ``entries`` (a plain sequence gives the
+    batch's own axis indices)."""
     if baseline is None:
         return (0, 0, 0, 0)
     if isinstance(baseline, Indices):
         values = tuple(getattr(baseline, kind) for kind in AXES)
+        if entries is not None:
+            values = (values[0], _entry(baseline, entries), *values[2:])
     else:
         values = tuple(baseline)
         if len(values) != len(AXES):
@@ -68,6 +74,41 @@ def baseline_indices(
                 loc=("baseline", kind),
             )
     return tuple(int(i) for i in values)
+
+
+def _entry(baseline: Indices, entries: Entries) -> int:
+    """The camera axis's entry of the baseline's camera and binning, or of its eyepiece."""
+    n_cameras, n_eyepieces = entries.camera_count, entries.eyepiece_count
+    given = baseline.model_fields_set
+    if baseline.eyepiece is not None:
+        if baseline.eyepiece >= n_eyepieces:
+            raise EvaluationError(
+                f"baseline.eyepiece: {baseline.eyepiece} is not an index into the {n_eyepieces} "
+                "eyepieces" + (f" (0..{n_eyepieces - 1})" if n_eyepieces else ""),
+                loc=("baseline", "eyepiece"))
+        for kind in ("camera", "binning"):
+            if kind in given and getattr(baseline, kind) is not None:
+                raise EvaluationError(
+                    f"baseline.{kind}: a visual combination (an eyepiece) has no {kind}; "
+                    "leave it out", loc=("baseline", kind))
+        return entries.entry(None, None, baseline.eyepiece)
+    if not n_cameras or baseline.camera is None:
+        if "camera" in given and baseline.camera is not None:
+            raise EvaluationError("baseline.camera: the request lists no cameras; name an eyepiece",
+                                  loc=("baseline", "camera"))
+        if n_cameras:
+            raise EvaluationError("baseline: name a camera or an eyepiece", loc=("baseline",))
+        return 0  # the first eyepiece
+    if baseline.camera >= n_cameras:
+        raise EvaluationError(
+            f"baseline.camera: {baseline.camera} is not an index into the {n_cameras} cameras "
+            f"(0..{n_cameras - 1})", loc=("baseline", "camera"))
+    factor = entries.factors[0] if baseline.binning is None else baseline.binning
+    if factor not in entries.factors:
+        raise EvaluationError(
+            f"baseline.binning: {factor} is not one of the request's binning factors "
+            f"({', '.join(map(str, entries.factors))})", loc=("baseline", "binning"))
+    return entries.entry(baseline.camera, factor, None)
 
 
 def stored_ids(

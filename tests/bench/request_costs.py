@@ -15,8 +15,11 @@ leave of their parent):
   the exception middleware);
 * the router: route matching, reading and decoding the body, dependency solving with the body's
   validation, the route function, sending the answer;
-* in the route function: the request checks, the rigs built from the body, ``compare()`` (params,
-  the batch, the calculators, arrays to JSON values, validation of the result) and serialisation.
+* in the route function: the request checks, the rigs built from the body, the answer's tree
+  (``plugins.compare.comparison_tree``, shown as ``compare()``: params, the batch, the calculators,
+  arrays to JSON values, null reasons, the rigs' own cautions) and serialisation
+  (``plugins.results.comparison_json``, which for built-in calculators writes the tree without
+  validating it again; "result validation" appears only where something still validates it).
 
 Run alone:  .venv/bin/python tests/bench/request_costs.py [--requests 2000]
 (load.py prints the same breakdown after its load figures).
@@ -173,19 +176,27 @@ def instrument(app, watches: Stopwatches) -> None:
     watches.wrap(fastapi_routing, "run_endpoint_function", "route function", is_async=True)
     watches.wrap(comparisons, "check_request", "request checks")
     watches.wrap(comparisons, "inline_rigs", "rigs from the body")
-    watches.wrap(comparisons, "compare", "compare()")
+    # The route builds the answer's tree (plugins.compare.comparison_tree) and writes it
+    # (plugins.results.comparison_json: without validating it again for built-in calculators).
+    tree = "comparison_tree" if hasattr(comparisons, "comparison_tree") else "compare"
+    watches.wrap(comparisons, tree, "compare()")
     watches.wrap(compare_module, "parse_params", "params")
     watches.wrap(RigBatch, "from_rigs", "batch")
     watches.wrap(compare_module, "run", "calculators")
     watches.wrap(compare_module, "to_json_values", "arrays to JSON values")
     if hasattr(compare_module, "explain"):
         watches.wrap(compare_module, "explain", "null reasons")
+    if hasattr(compare_module, "rig_cautions"):
+        watches.wrap(compare_module, "rig_cautions", "rig cautions")
     shim = SimpleNamespace(model_validate=Comparison.model_validate)
     watches.wrap(shim, "model_validate", "result validation")
     original_comparison = compare_module.Comparison
     compare_module.Comparison = shim
     watches._undo.append(lambda: setattr(compare_module, "Comparison", original_comparison))
-    watches.wrap(Comparison, "model_dump_json", "serialisation")
+    if hasattr(comparisons, "comparison_json"):
+        watches.wrap(comparisons, "comparison_json", "serialisation")
+    else:
+        watches.wrap(Comparison, "model_dump_json", "serialisation")
 
 
 #: (stage, parents) in the order printed: the first parent present is the stage's; "other" rows are
@@ -198,6 +209,7 @@ TREE = [
     ("compare()", ("route function",)),
     ("params", ("compare()",)), ("batch", ("compare()",)), ("calculators", ("compare()",)),
     ("arrays to JSON values", ("compare()",)), ("null reasons", ("compare()",)),
+    ("rig cautions", ("compare()",)),
     ("result validation", ("compare()",)),
     ("serialisation", ("route function",)),
 ]

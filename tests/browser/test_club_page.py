@@ -158,6 +158,9 @@ def test_the_demo_club_page_shows_the_apis_comparison_and_pictures(tab, server):
             value = api["results"][calculator]["outputs"][output]["values"][i]
             if value is None:  # a visual rig's imaging figures (and the other way round)
                 assert (cell["value"], cell["text"]) == ("null", "\u2014")
+            elif cell["output"] == "compatibility.verdict":
+                # In words: test_the_rigs_say_whether_they_fit_in_words.
+                assert cell["value"] == value and cell["text"]
             elif isinstance(value, str):
                 assert cell["text"] == value
             else:
@@ -180,6 +183,43 @@ def test_the_demo_club_page_shows_the_apis_comparison_and_pictures(tab, server):
     assert "full-aperture solar filter" in tab.page.locator(".cautions").inner_text()
     path = screenshot(tab, "club-page.png")
     assert path.stat().st_size > 10_000
+    assert tab.blocked == [] and tab.errors == []
+
+
+def test_the_rigs_say_whether_they_fit_in_words(tab, server):
+    tab.page.goto(f"{server}/clubs/{CLUB}")
+    api = httpx.get(f"{server}/v1/clubs/{CLUB}/comparison").json()
+    out = api["results"]["compatibility"]["outputs"]
+    index = {r["name"]: i for i, r in enumerate(api["rigs"])}
+    table = tab.page.locator("#rigs-table")
+    headers = table.locator("thead th").all_inner_texts()
+    fit = headers.index("Fit")
+
+    def shown(name: str) -> str:
+        row = table.locator("tbody tr").filter(has=tab.page.get_by_role("rowheader", name=name, exact=True))
+        # A no-break space holds each length to its unit on the page.
+        return row.locator("th, td").nth(fit).inner_text().strip().replace("\u00a0", " ")
+
+    # The demo's newtonian needs spacers: the API's spacer_mm, to the 0.1 mm a spacer is bought to.
+    i = index["Big newtonian imager"]
+    assert out["verdict"]["values"][i] == "fits with spacers"
+    assert shown("Big newtonian imager") == f"fits with {out['spacer_mm']['values'][i]:.1f} mm of spacers"
+    i = index["Reduced SCT for galaxies"]
+    circle = out["image_circle_mm"]["values"][i]
+    diagonal = circle / out["image_circle_to_diagonal"]["values"][i]
+    assert shown("Reduced SCT for galaxies") == (
+        f"vignettes: image circle {circle:.1f} mm < sensor diagonal {diagonal:.1f} mm")
+    assert shown("Wide-field travel refractor") == "fits"
+    # The comparison table says the same for each rig, the calculator's verdict kept in data-value.
+    rows = comparison_rows(tab.page)
+    words = {r["name"]: next(c for c in r["cells"] if c["output"] == "compatibility.verdict") for r in rows}
+    for name in index:
+        assert words[name]["value"] == out["verdict"]["values"][index[name]]
+        assert words[name]["text"].replace("\u00a0", " ") == shown(name)
+    assert table.is_visible()
+    table.scroll_into_view_if_needed()
+    ARTIFACTS.mkdir(exist_ok=True)
+    table.screenshot(path=str(ARTIFACTS / "club-page-rigs.png"))
     assert tab.blocked == [] and tab.errors == []
 
 

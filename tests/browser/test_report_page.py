@@ -41,7 +41,9 @@ def contrast(a, b) -> float:
 
 
 def _ids(server: str, kind: str) -> list[int]:
-    return [item["id"] for item in httpx.get(f"{server}/v1/{kind}", params={"owner": CLUB}).json()["items"]]
+    # Eyepieces are left out of the trains: an imaging sweep refuses a train ending in one.
+    items = httpx.get(f"{server}/v1/{kind}", params={"owner": CLUB}).json()["items"]
+    return [item["id"] for item in items if item.get("kind") != "eyepiece"]
 
 
 def report_request(server: str, objectives: dict) -> dict:
@@ -103,7 +105,7 @@ def saved(server: str, key: str, objectives: dict, **changes) -> dict:
 
 def indices(row: dict) -> str:
     i = row["indices"]
-    return f"{i['telescope']},{i['camera']},{i['train']},{i['mount']}"
+    return f"{i['telescope']},{i['camera']},{i['train']},{i['mount']},{i['binning']}"  # and the binning
 
 
 def drawn(page, chart: str, selector: str) -> list[dict]:

@@ -15,7 +15,9 @@ from calculators.batch import RigBatch
 from calculators.builtin.cost import Cost, CostParams
 from calculators.builtin.etendue import Etendue
 from calculators.errors import CalculationError
-from calculators.schemas import Camera, Rig, Telescope
+from calculators.ownership import candidate_model, is_owned, owned_parts
+from calculators.schemas import Accessory, Camera, Rig, Telescope
+from calculators.train_elements import Flattener
 from calculators.units import unit_registry
 from plugins.runner import run
 from plugins.testing import compute, conformance_checks, rigs
@@ -116,7 +118,7 @@ def test_price_per_etendue_uses_the_etendue_calculators_value():
 
 def test_price_outputs_carry_the_currency_as_their_unit():
     assert units(rig(telescope=100.0), rig(camera=5.0)) == {
-        "total_price": "EUR", "price_per_cm2": "EUR/cm^2",
+        "total_price": "EUR", "purchase_price": "EUR", "price_per_cm2": "EUR/cm^2",
         "price_per_etendue_cm2_deg2": "EUR/(cm^2*deg^2)",
     }
     assert units(rig(telescope=100.0, currency="USD"))["total_price"] == "USD"
@@ -186,3 +188,85 @@ def test_mixed_currencies_in_a_sweep_are_found_on_the_component_axes():
 def test_params_are_validated(params, message):
     with pytest.raises(ValidationError, match=message):
         CostParams(**params)
+
+
+# --- purchase_price: what is left to buy --------------------------------------------------------
+# Arithmetic only (a sum over the parts not owned), so the checks are exact identities.
+
+SLOTS = ("telescope", "camera", "mount")
+
+
+@st.composite
+def owned_rigs(draw, owned=st.booleans()):
+    """A rig with drawn prices and drawn ownership of each part, and the ownership flags."""
+    r = rig(draw(st.none() | amounts), draw(st.none() | amounts), draw(st.none() | amounts),
+            draw(st.none() | amounts), draw(st.lists(st.none() | amounts, max_size=3)))
+    flags = {slot: draw(owned) for slot in SLOTS}
+    flags["train"] = [draw(owned) for _ in r.train]
+    flags["accessories"] = [draw(owned) for _ in r.accessories]
+    return owned_parts(r, flags), flags
+
+
+def priced_parts(r):
+    parts = [r.telescope, r.camera, r.mount, *r.train, *r.accessories]
+    return [p for p in parts if p is not None and p.price is not None]
+
+
+@given(st.lists(owned_rigs(), min_size=1, max_size=4))
+@settings(deadline=None)
+def test_purchase_price_is_the_sum_over_the_parts_not_owned_and_at_most_the_total(drawn):
+    out = outputs(*[r for r, _ in drawn])
+    for i, (r, _) in enumerate(drawn):
+        total, purchase = out["total_price"][i], out["purchase_price"][i]
+        if not priced_parts(r):
+            assert math.isnan(total) and math.isnan(purchase)
+            continue
+        assert 0 <= purchase <= total
+        expected = sum(p.price.amount for p in priced_parts(r) if not is_owned(p))
+        assert purchase == pytest.approx(expected, rel=1e-12, abs=1e-9)
+
+
+@given(st.lists(owned_rigs(owned=st.just(False)), min_size=1, max_size=4))
+@settings(deadline=None)
+def test_with_nothing_owned_the_purchase_price_is_the_total(drawn):
+    out = outputs(*[r for r, _ in drawn])
+    np.testing.assert_array_equal(out["purchase_price"], out["total_price"])
+
+
+@given(st.lists(owned_rigs(owned=st.just(True)), min_size=1, max_size=4))
+@settings(deadline=None)
+def test_with_everything_owned_the_purchase_price_is_zero(drawn):
+    out = outputs(*[r for r, _ in drawn])
+    for i, (r, _) in enumerate(drawn):
+        if priced_parts(r):
+            assert out["purchase_price"][i] == 0.0
+        else:
+            assert math.isnan(out["purchase_price"][i])
+
+
+def test_purchase_price_converts_currencies_like_the_total():
+    # An owned 1000 USD telescope and a 500 EUR camera to buy, at an invented 0.9 EUR per USD.
+    r = Rig.model_validate({
+        "name": "rig", "telescope": {"aperture_mm": 200, "focal_length_mm": 1000,
+                                     "price": price(1000, "USD")},
+        "camera": {"pixel_size_um": 3.8, "width_px": 6000, "height_px": 4000, "price": price(500)}})
+    r = owned_parts(r, {"telescope": True})
+    out = outputs(r, currency="EUR", exchange_rates={"USD": 0.9})
+    assert (out["total_price"][0], out["purchase_price"][0]) == (pytest.approx(1400.0), 500.0)
+    with pytest.raises(CalculationError, match="exchange rates"):
+        outputs(r)  # the owned part's currency still has to be convertible: the total needs it
+
+
+def test_purchase_price_in_a_sweep_counts_owned_candidates_out():
+    scopes = [candidate_model(Telescope).model_validate(
+        {"aperture_mm": a, "focal_length_mm": 1000, "price": price(p), "owned": o})
+        for a, p, o in ((200, 600, True), (150, 400, False))]
+    cams = [Camera(pixel_size_um=3.8, width_px=6000, height_px=4000, price=price(900))]
+    batch = RigBatch.from_components(scopes, cams, [[], [candidate_model(Flattener).model_validate(
+        {"kind": "flattener", "price": price(150), "owned": True})]],
+        accessories=[Accessory(name="finder", price=price(40))])
+    out = CALC.compute(batch, CostParams())
+    total = np.broadcast_to(out["total_price"], batch.shape)[:, 0, :, 0]
+    purchase = np.broadcast_to(out["purchase_price"], batch.shape)[:, 0, :, 0]
+    np.testing.assert_array_equal(total, [[1540, 1690], [1340, 1490]])
+    np.testing.assert_array_equal(purchase, [[940, 940], [1340, 1340]])

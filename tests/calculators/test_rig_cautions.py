@@ -4,13 +4,22 @@ from __future__ import annotations
 
 import math
 
+import numpy as np
 import pint
 import pytest
 from hypothesis import given
 from hypothesis import strategies as st
 from calculators.batch import RigBatch
-from calculators.rig_cautions import LIFT_GUIDELINE_KG, rig_cautions
+from calculators.rig_cautions import (
+    LIFT_GUIDELINE_KG,
+    PAYLOAD_PARTS,
+    SMALL_BATCH_ROWS,
+    cautions_by_arrays,
+    cautions_by_rows,
+    rig_cautions,
+)
 from calculators.schemas import Rig
+from calculators.train_elements import ElementKind
 from plugins.strategies import rig_lists
 
 CAMERA = {"pixel_size_um": 3.8, "width_px": 6000, "height_px": 4000, "mass_kg": 1.0}
@@ -72,19 +81,42 @@ def test_each_rig_gets_its_own_cautions():
     assert [len(c) for c in found] == [0, 2, 0]
 
 
+def train_mass(model: Rig) -> float | None:
+    """The train's mass as the batch states it (a drawn modifier is read as a one-element train):
+    a filter without a mass weighs nothing, any other element without one leaves it unknown."""
+    masses = [e.mass_kg if e.mass_kg is not None or e.kind != ElementKind.filter else 0.0 for e in model.train]
+    return None if None in masses else math.fsum(masses)
+
+
 @given(rig_lists(max_size=5, complete=True), st.floats(1, 60))
 def test_cautions_appear_exactly_when_payload_exceeds_rating_or_an_item_the_guideline(rigs, capacity):
     rigs = [r.model_copy(update={"mount": r.mount.model_copy(update={"capacity_kg": capacity})})
             if r.mount else r for r in rigs]
     for model, found in zip(rigs, cautions(*rigs)):
-        parts = [model.telescope.mass_kg, model.camera.mass_kg,
-                 model.modifier.mass_kg if model.modifier else 0.0, sum(a.mass_kg for a in model.accessories)]
+        parts = [model.telescope.mass_kg, model.camera.mass_kg, train_mass(model),
+                 sum(a.mass_kg for a in model.accessories)]
         stated = math.fsum(p for p in parts if p is not None)
         over = model.mount is not None and stated > model.mount.capacity_kg
-        items = [m for m in (model.telescope.mass_kg, model.camera.mass_kg,
-                             model.modifier.mass_kg if model.modifier else None,
+        items = [m for m in (model.telescope.mass_kg, model.camera.mass_kg, train_mass(model),
                              model.mount.mass_kg if model.mount else None,
                              model.geometry.counterweight_kg if model.geometry else None) if m is not None]
         heavy = bool(items) and max(items) > LIFT_GUIDELINE_KG
         assert any(c.startswith("Over the mount's rating") for c in found) == over
         assert any(c.startswith("Heavy lift") for c in found) == heavy
+
+
+@given(rig_lists(max_size=8, complete=None), st.lists(st.sampled_from(["at", "below", "drawn"]), min_size=8,
+                                                      max_size=8), st.floats(1, 60))
+def test_the_small_batch_path_gives_the_array_paths_cautions_word_for_word(rigs, where, capacity):
+    # Exact, not within a tolerance: the row path adds the same doubles in the same order, so each
+    # payload is the same double. Capacities set to the array path's own payload ("at": no caution)
+    # and to the next double below it ("below": a caution) show that a single ulp apart would differ.
+    batch = RigBatch.from_rigs(rigs)
+    parts = np.stack([np.asarray(batch[c]) for c in PAYLOAD_PARTS])
+    payload = np.nansum(parts, axis=0)
+    chosen = {"at": payload, "below": np.nextafter(payload, -np.inf), "drawn": np.full(len(rigs), capacity)}
+    capacities = np.array([chosen[w][i] for i, w in enumerate(where[:len(rigs)])])
+    edged = RigBatch(columns={**batch.columns, "capacity_kg": capacities}, baseline=(0,))
+    for one in (batch, edged):
+        assert cautions_by_rows(one) == cautions_by_arrays(one)
+    assert len(rigs) <= SMALL_BATCH_ROWS and rig_cautions(edged) == cautions_by_rows(edged)

@@ -194,3 +194,20 @@ def test_colour_sampling_is_twice_the_pixel_scale_for_a_bayer_sensor_and_equal_f
     # Without a sensor column (no sensor stated): the pixel scale, as for mono.
     plain_out = Sampling().compute(plain, SamplingParams())
     assert (plain_out["colour_pixel_scale_arcsec"] == plain_out["pixel_scale_arcsec"]).all()
+
+
+def test_a_visual_rig_has_no_suggested_binning_and_says_why():
+    # An eyepiece rig has no pixels: every pixel figure, the suggested binning included, is null
+    # (it was 0), with the reason beside it.
+    from plugins.compare import compare
+    from plugins.null_reasons import NO_CAMERA
+    from plugins.registry import load_registry
+
+    visual = Rig(name="by eye", telescope={"aperture_mm": 200, "focal_length_mm": 1200},
+                 train=[{"kind": "eyepiece", "focal_length_mm": 25, "apparent_field_deg": 52}])
+    result = compare([rig(1200), visual], ["sampling"], registry=load_registry()).results["sampling"]
+    for name in ("suggested_binning", "pixel_scale_arcsec", "image_width_px"):
+        output = result.outputs[name]
+        assert output.values[1] is None and output.values[0] is not None
+        assert output.null_reasons == [None, NO_CAMERA]
+    assert result.outputs["suggested_binning"].values[0] == 1

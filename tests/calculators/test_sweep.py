@@ -388,7 +388,7 @@ def run(**changes):
         ({"lists": (SCOPES, [])}, EvaluationError, ("cameras",), "at least one camera"),
         ({"lists": (SCOPES, CAMS, [])}, EvaluationError, ("trains",), "[] means none"),
         ({"limit": -1}, EvaluationError, ("limit",), "≥ 0"),
-        ({"max_combinations": 1}, TooManyCombinations, (), "2 × 1 × 1 × 1 = 2 combinations"),
+        ({"max_combinations": 1}, TooManyCombinations, (), "2 × 1 × 1 × 1 = 2 combinations (telescopes × cameras × trains × mounts)"),
         ({"objectives": {"broken.value": "min"}}, CalculatorFailed, ("objectives", "broken.value"),
          "ZeroDivisionError"),
         ({"constraints": {"misshapen.value": {"max": 1}}}, CalculatorFailed,
@@ -407,9 +407,10 @@ def test_bad_input_is_a_clear_error_naming_the_field(changes, error, loc, words)
 
 
 def test_too_many_combinations_is_refused_before_computing_anything():
-    with pytest.raises(TooManyCombinations):
+    with pytest.raises(TooManyCombinations) as caught:
         run(objectives={"broken.value": "min"}, calculators={**CALCULATORS, "broken": Broken()},
             max_combinations=1)
+    assert (caught.value.combinations, caught.value.maximum) == (2, 1)
 
 
 @pytest.mark.parametrize("chunk_rows", [1, 10**9])

@@ -172,7 +172,8 @@ def test_unreadable_files_and_bad_json_exit_2(tmp_path, capsys):
 def test_the_product_limit_setting_applies_in_process(request_file, capsys, monkeypatch):
     monkeypatch.setenv("RIGBENCH_MAX_COMBINATIONS", "10")
     assert main(["evaluate", request_file()]) == 2
-    assert "24 combinations exceed the maximum of 10" in capsys.readouterr().err
+    assert "= 24 combinations (telescopes × cameras × trains × mounts), more than the maximum of 10" \
+        in capsys.readouterr().err
 
 
 def test_the_front_table_names_stored_equipment_by_id_and_cuts_long_fronts():
@@ -264,3 +265,17 @@ def test_against_a_server_stored_equipment_needs_the_key(server, make_account, r
     assert main(["evaluate", request_file(stored), "--url", server]) == 2
     err = capsys.readouterr().err
     assert err.startswith("error: 422") and "telescopes.1.id" in err
+
+
+def test_the_front_table_names_a_visual_rows_eyepiece_and_a_binned_rows_factor():
+    answer = {
+        "evaluated": 2, "feasible": 2, "units": {"x.y": ""}, "cautions": {}, "top": [],
+        "front": [{"indices": {"telescope": 0, "camera": None, "train": 0, "mount": 0, "binning": None,
+                               "eyepiece": 0}, "values": {"x.y": 1.0}, "score": None},
+                  {"indices": {"telescope": 0, "camera": 0, "train": 0, "mount": 0, "binning": 2,
+                               "eyepiece": None}, "values": {"x.y": 2.0}, "score": None}],
+    }
+    body = {"telescopes": [{"name": "scope"}], "cameras": [{"name": "cam"}],
+            "eyepieces": [{"name": "25 mm eyepiece"}]}
+    rows = table_rows(front_table(answer, body))
+    assert "25 mm eyepiece" in rows[0] and "cam (2×2 binned)" in rows[1]

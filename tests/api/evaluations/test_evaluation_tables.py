@@ -9,15 +9,15 @@ from api.evaluations.csv_table import evaluation_csv
 from calculators.evaluation_schemas import EvaluationResult, EvaluationRow, Ids, Indices
 
 
-def row(t, score, area, price, telescope_id=None):
-    return EvaluationRow(indices=Indices(telescope=t), ids=Ids(telescope=telescope_id),
+def row(t, score, area, price, telescope_id=None, binning=1):
+    return EvaluationRow(indices=Indices(telescope=t, binning=binning), ids=Ids(telescope=telescope_id),
                          values={"light.area": area, "cost.price": price}, score=score)
 
 
 def test_front_then_top_then_baseline_with_units_and_empty_cells_for_null():
     result = EvaluationResult(
         evaluated=3, feasible=2,
-        front=[row(0, 0.0, 2.5, None, telescope_id=7), row(2, 1.0, 1.0, 100.0)],
+        front=[row(0, 0.0, 2.5, None, telescope_id=7), row(2, 1.0, 1.0, 100.0, binning=2)],
         top=[row(0, 0.0, 2.5, None, telescope_id=7)],
         baseline=row(1, None, 0.5, 90.0), baseline_feasible=False,
         units={"light.area": "mm^2", "cost.price": ""},
@@ -25,12 +25,12 @@ def test_front_then_top_then_baseline_with_units_and_empty_cells_for_null():
     text = evaluation_csv(result)
     assert text.endswith("\r\n")  # RFC 4180 line breaks
     assert list(csv.reader(io.StringIO(text))) == [
-        ["set", "rank", "telescope", "camera", "train", "mount", "telescope_id", "camera_id",
-         "train_id", "mount_id", "light.area [mm²]", "cost.price", "score"],
-        ["front", "1", "0", "0", "0", "0", "7", "", "", "", "2.5", "", "0.0"],
-        ["front", "2", "2", "0", "0", "0", "", "", "", "", "1.0", "100.0", "1.0"],
-        ["top", "1", "0", "0", "0", "0", "7", "", "", "", "2.5", "", "0.0"],
-        ["baseline", "1", "1", "0", "0", "0", "", "", "", "", "0.5", "90.0", ""],
+        ["set", "rank", "telescope", "camera", "train", "mount", "binning", "eyepiece", "telescope_id",
+         "camera_id", "train_id", "mount_id", "eyepiece_id", "light.area [mm²]", "cost.price", "score"],
+        ["front", "1", "0", "0", "0", "0", "1", "", "7", "", "", "", "", "2.5", "", "0.0"],
+        ["front", "2", "2", "0", "0", "0", "2", "", "", "", "", "", "", "1.0", "100.0", "1.0"],
+        ["top", "1", "0", "0", "0", "0", "1", "", "7", "", "", "", "", "2.5", "", "0.0"],
+        ["baseline", "1", "1", "0", "0", "0", "1", "", "", "", "", "", "", "0.5", "90.0", ""],
     ]
 
 

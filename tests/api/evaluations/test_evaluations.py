@@ -129,9 +129,11 @@ def test_the_answer_has_the_contract_shape(client):
     keys = {*CONSTRAINTS, *OBJECTIVES}
     for row in body["front"] + body["top"] + [body["baseline"]]:
         assert set(row) == {"indices", "ids", "values", "score", "cautions"}
-        assert set(row["indices"]) == set(AXES) and set(row["ids"]) == set(AXES)
+        assert set(row["indices"]) == {*AXES, "binning", "eyepiece"}
+        assert set(row["ids"]) == {*AXES, "eyepiece"}
+        assert row["indices"]["binning"] == 1 and row["indices"]["eyepiece"] is None
         # everything inline: no stored ids (one null per element of the train)
-        assert all(v is None for k, v in row["ids"].items() if k != "train")
+        assert all(v is None for k, v in row["ids"].items() if k != "train")  # eyepiece: none
         assert row["ids"]["train"] == [None] * len(TRAINS[row["indices"]["train"]])
         assert set(row["values"]) == keys
     assert body["units"] == {"sampling.pixel_scale_arcsec": "arcsec", "payload.capacity_fraction": "",
@@ -252,7 +254,7 @@ def test_stored_equipment_is_resolved_and_its_ids_returned(client, alice):
     ids = {"telescope": [None, scope["id"]], "camera": [camera["id"], None],
            "train": [[], [reducer["id"]]], "mount": [mount["id"], None]}
     for row in got["front"] + got["top"] + [got["baseline"]]:
-        assert row["ids"] == {kind: ids[kind][row["indices"][kind]] for kind in AXES}
+        assert row["ids"] == {**{kind: ids[kind][row["indices"][kind]] for kind in AXES}, "eyepiece": None}
     # Stored or inline, the same equipment gives the same answer.
     for part in ("front", "top"):
         for a, b in zip(got[part], want[part]):
@@ -287,7 +289,7 @@ def test_an_unknown_key_is_a_401(client):
 
 @pytest.mark.parametrize(("changes", "field", "title"), [
     ({"telescopes": []}, "telescopes", "Invalid input"),
-    ({"cameras": []}, "cameras", "Invalid input"),
+    ({"cameras": []}, "cameras", "Invalid evaluation"),  # nor eyepieces: one is needed
     ({"trains": []}, "trains", "Invalid input"),
     ({"mounts": []}, "mounts", "Invalid input"),
     ({"objectives": {}}, "objectives", "Invalid evaluation"),
@@ -453,13 +455,14 @@ def test_csv_is_the_same_answer_as_a_table(client, alice):
                 + [("baseline", data["baseline"])])
     assert [line["set"] for line in lines] == [name for name, _ in expected]
     for line, (name, row) in zip(lines, expected):
-        assert {kind: int(line[kind]) for kind in AXES} == row["indices"]
+        assert {kind: int(line[kind]) if line[kind] else None
+                for kind in (*AXES, "binning", "eyepiece")} == row["indices"]
         def stored(kind, cell):
             if kind == "train":  # one per element, "inline" for an inline one
                 return [None if x == "inline" else int(x) for x in cell.split(";")] if cell else []
             return int(cell) if cell else None
 
-        assert {kind: stored(kind, line[f"{kind}_id"]) for kind in AXES} == row["ids"]
+        assert {kind: stored(kind, line[f"{kind}_id"]) for kind in (*AXES, "eyepiece")} == row["ids"]
         for key, value in row["values"].items():
             unit = data["units"][key]
             cell = line[f"{key} [{unit}]" if unit else key]
@@ -490,4 +493,5 @@ def test_the_openapi_document_gives_the_exact_shapes(app):
     assert {"400", "401", "413", "415", "422"} <= set(operation["responses"])
     schemas = app.openapi()["components"]["schemas"]
     assert set(schemas["EvaluationResult"]["required"]) >= {"evaluated", "feasible", "front", "top"}
-    assert set(schemas["EvaluationRequest"]["required"]) == {"telescopes", "cameras", "objectives"}
+    # cameras may be left out when eyepieces are given (one of the two is needed: the engine says so)
+    assert set(schemas["EvaluationRequest"]["required"]) == {"telescopes", "objectives"}

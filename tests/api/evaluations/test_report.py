@@ -33,7 +33,8 @@ def answer(body, registry=REGISTRY):
 
 
 def key(row) -> str:
-    return ",".join(str(getattr(row.indices, k)) for k in ("telescope", "camera", "train", "mount"))
+    # The four indices and the binning factor, as the page's data-indices write them.
+    return ",".join(str(getattr(row.indices, k)) for k in ("telescope", "camera", "train", "mount", "binning"))
 
 
 def front_drawn(svg: str) -> list[str]:
@@ -204,3 +205,16 @@ def test_what_is_owned_is_not_in_the_price_to_buy():
     components = ([part(600, owned=True)], [part(1400)], [None], [[part(120), part(80, owned=True)]])
     row = EvaluationRow(indices=Indices(), ids=Ids(), values={}, score=0.0)
     assert sheets.purchase_prices(components, row) == ("1,520.00 EUR", "2,200.00 EUR")
+
+
+def test_a_binned_sweep_is_sampled_at_each_factor_as_the_engine_sweeps_it():
+    spec, components, result = answer(request(binning=[1, 2]))
+    drawn = sample.sample(components, spec, REGISTRY.calculators)
+    assert drawn.size == result.evaluated == 3 * 2 * 2 * 3 * 3
+    assert int(drawn.feasible.sum()) == result.feasible
+    assert set(drawn.indices[:, 4].tolist()) == {1, 2}
+    for j, ix in enumerate(drawn.indices):
+        row = next((r for r in result.front if key(r) == ",".join(map(str, ix))), None)
+        if row is not None:
+            for k, v in row.values.items():
+                assert drawn.values[k][j] == pytest.approx(v, rel=1e-12)

@@ -26,7 +26,9 @@ def test_computed_here_the_file_draws_the_engines_front_and_a_sheet_per_pick(req
     assert_self_contained(html)
     expected = engine_answer(REQUEST)
     drawn = re.findall(r'data-front="true" [^>]*data-indices="([\d,]+)"', html)
-    assert sorted(drawn) == sorted(",".join(str(r["indices"][k]) for k in ("telescope", "camera", "train", "mount"))
+    # data-indices: the four indices and the binning factor
+    assert sorted(drawn) == sorted(",".join(str(r["indices"][k]) for k in ("telescope", "camera", "train", "mount",
+                                                                           "binning"))
                                    for r in expected["front"])
     assert html.count('<article class="sheet"') == len(expected["top"])
 

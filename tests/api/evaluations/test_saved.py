@@ -277,3 +277,23 @@ def test_the_page_run_again_now_shows_what_a_price_change_did(client, alice, bob
     assert page.text.count('data-front="true"') == len(rerun["result"]["front"])
     assert TELESCOPES[0]["name"] in page.text
     assert client.get(f"{item['report_url']}/now", headers={**bob.headers, "Accept": "text/html"}).status_code == 404
+
+
+def test_owned_candidates_are_kept_saved_and_re_run_as_they_were(client, alice):
+    # Alice's stored telescope (hers, so owned by default) and an inline camera she marks owned.
+    scope = stored(client, alice, "telescopes", TELESCOPES[1])
+    objectives = {"cost.purchase_price": "min", "cost.total_price": "min"}
+    body = dict(telescopes=[{"id": scope}, TELESCOPES[0]], cameras=[{**CAMERAS[0], "owned": True}],
+                trains=[[]], mounts=[MOUNTS[0]], constraints={}, objectives=objectives)
+    item = save(client, alice, **body)
+    fresh = client.post("/v1/evaluations", json={**request(), **body}, headers=alice.headers).json()
+    assert item["result"] == fresh
+    baseline = item["result"]["baseline"]["values"]
+    # 450 (telescope) + 1400 (camera) + 1500 (mount) in all; only the mount is to buy.
+    assert (baseline["cost.total_price"], baseline["cost.purchase_price"]) == (3350, 1500)
+    # Re-run: unchanged equipment, the same answer, nothing reported as changed by ownership.
+    rerun = client.post(f"/v1/evaluations/saved/{item['id']}/rerun", headers=alice.headers).json()
+    assert rerun["result"] == item["result"]
+    assert [e["status"] for e in rerun["stored_equipment"]] == ["unchanged"]
+    page = client.get(item["report_url"], headers={**alice.headers, "Accept": "text/html"})
+    assert page.status_code == 200
