@@ -15,13 +15,13 @@ from calculators.schemas import (
     Camera,
     Design,
     Drive,
-    Modifier,
     ModifierKind,
     Mount,
     MountType,
     Rig,
     Telescope,
 )
+from calculators.train_elements import ElementKind, train_element
 
 MM_PER_INCH = 25.4  # NIST SP 811 (2008), appendix B: 1 in = 2.54 cm exactly
 KG_PER_POUND = 0.45359237  # NIST SP 811 (2008), appendix B: 1 lb (avoirdupois) exactly
@@ -83,8 +83,69 @@ def telescope_dicts(
     return telescope
 
 
+#: The kinds an imaging train is drawn from (an eyepiece ends a visual train, which has no camera).
+TRAIN_KINDS = tuple(k.value for k in ElementKind if k != ElementKind.eyepiece)
+_REDUCING = {"reducer", "reducer-flattener"}
+#: Smallest product of a drawn train's factors: with the fastest telescope drawn (f/1.5) the rig
+#: stays above the physical minimum of f/0.5 that the Rig schema enforces.
+MIN_TRAIN_FACTOR = 0.34
+
+
+@st.composite
+def element_dicts(draw, kind: str | None = None, complete: bool = False,
+                  min_factor: float = 0.5) -> dict:
+    """One train element of ``kind`` (drawn from :data:`TRAIN_KINDS` when None) with the fields its
+    kind takes; ``complete`` states every optional one. A reducing factor is at least
+    ``min_factor``."""
+    kind = kind or draw(st.sampled_from(TRAIN_KINDS))
+    element: dict = {"kind": kind}
+    optional: dict = {"mass_kg": _floats(0.02, 1.5), "price": prices}
+    if kind in _REDUCING:
+        element["factor"] = draw(_floats(max(0.5, min(min_factor, 1.0)), 1.0))
+    elif kind == "barlow":
+        element["factor"] = draw(_floats(1.0, 2.5))
+    elif kind in ("flattener", "corrector"):
+        element["factor"] = draw(st.just(1.0) | _floats(0.95, 1.05))
+    if "factor" in element:  # the powered kinds
+        optional.update(
+            throughput=_floats(0.8, 1), image_circle_mm=_floats(10, 60),
+            backfocus_mm=_floats(20, 150), backfocus_tolerance_mm=_floats(0, 2),
+            optical_length_mm=_floats(5, 120),
+            designs=st.lists(st.sampled_from([d.value for d in Design]), min_size=1, max_size=3,
+                             unique=True),
+        )
+    elif kind == "filter":
+        optional.update(thickness_mm=_floats(0.5, 5), refractive_index=_floats(1.4, 1.8),
+                        centre_nm=_floats(350, 1000), bandwidth_nm=_floats(3, 150),
+                        peak_transmission=_floats(0.5, 1), image_circle_mm=_floats(25, 60))
+    elif kind == "spacer":
+        element["optical_length_mm"] = draw(_floats(1, 60))
+    else:  # filter wheel, off-axis guider
+        optional.update(optical_length_mm=_floats(5, 40), image_circle_mm=_floats(25, 60))
+    _some(draw, element, optional, complete or None)
+    if "factor" in element and (complete or draw(st.booleans())):
+        low = draw(_floats(1.5, 12))
+        element.update(focal_ratio_min=low, focal_ratio_max=low + draw(_floats(0, 10)))
+    return element
+
+
+@st.composite
+def train_dicts(draw, min_size: int = 0, max_size: int = 3, complete: bool = False) -> list[dict]:
+    """An imaging train of ``min_size`` to ``max_size`` elements (telescope side first), whose
+    factors multiply to at least :data:`MIN_TRAIN_FACTOR`."""
+    kinds = draw(st.lists(st.sampled_from(TRAIN_KINDS), min_size=min_size, max_size=max_size))
+    train, product = [], 1.0
+    for kind in kinds:
+        element = draw(element_dicts(kind, complete, min_factor=MIN_TRAIN_FACTOR / product))
+        product *= element.get("factor", 1.0)
+        train.append(element)
+    return train
+
+
 @st.composite
 def modifier_dicts(draw) -> dict:
+    """An old single modifier (read as a one-element train for one release); new tests draw
+    :func:`train_dicts` or :func:`element_dicts`."""
     return {
         "kind": draw(st.sampled_from([k.value for k in ModifierKind])),
         "factor": draw(_floats(0.5, 2.5)),  # with f/1.5 or slower telescopes, f/0.75 at the fastest
@@ -130,11 +191,9 @@ def rig_dicts(
             st.builds(lambda m: {"name": "accessory", "mass_kg": m}, _floats(0, 3)), max_size=3
         )),
     }
-    modifier = draw(modifier_dicts() if complete else _maybe(modifier_dicts()))
-    if complete:
-        modifier["mass_kg"] = modifier["mass_kg"] or 0.2
-    if modifier is not None:
-        rig["modifier"] = modifier
+    train = draw(train_dicts(min_size=1 if complete else 0, complete=bool(complete)))
+    if train:
+        rig["train"] = train
     mount = draw(mount_dicts() if complete else _maybe(mount_dicts()))
     if mount is not None:
         rig["mount"] = mount
@@ -155,14 +214,15 @@ def rig_lists(min_size: int = 1, max_size: int = 6, **kwargs):
 
 @st.composite
 def sweeps(draw, max_each: int = 3, complete: bool | None = False, wide: bool = False):
-    """Component lists and a baseline index for :meth:`RigBatch.from_components`."""
+    """Component lists (telescopes, cameras, trains — each a list of 0-3 elements — and mounts)
+    and a baseline index for :meth:`RigBatch.from_components`."""
     full = (draw(st.booleans()) if complete is None else complete) or None
     telescopes = draw(st.lists(telescope_dicts(None, full, wide), min_size=1, max_size=max_each))
     cameras = draw(st.lists(camera_dicts(full, wide), min_size=1, max_size=max_each))
-    modifiers = draw(st.lists(_maybe(modifier_dicts()), min_size=1, max_size=max_each))
+    trains = draw(st.lists(train_dicts(complete=bool(full)), min_size=1, max_size=max_each))
     mounts = draw(st.lists(_maybe(mount_dicts()), min_size=1, max_size=max_each))
     lists = ([Telescope.model_validate(t) for t in telescopes], [Camera.model_validate(c) for c in cameras],
-             [None if m is None else Modifier.model_validate(m) for m in modifiers],
+             [[train_element(e) for e in train] for train in trains],
              [None if k is None else Mount.model_validate(k) for k in mounts])
     baseline = tuple(draw(st.integers(0, len(items) - 1)) for items in lists)
     return (*lists, baseline)
@@ -178,6 +238,9 @@ _MASSES = {
     "telescope": ("mass_kg",), "camera": ("mass_kg",), "modifier": ("mass_kg",),
     "mount": ("capacity_kg", "mass_kg"), "geometry": ("counterweight_kg",),
 }
+#: The same for each element of the train.
+_ELEMENT_LENGTHS = ("image_circle_mm", "backfocus_mm", "backfocus_tolerance_mm", "optical_length_mm",
+                    "thickness_mm", "lens_focal_length_mm", "spacing_mm")
 
 
 def in_imperial_units(rig: dict) -> dict:
@@ -192,4 +255,16 @@ def in_imperial_units(rig: dict) -> dict:
     out["accessories"] = [
         {**a, "mass_kg": f"{a['mass_kg'] / KG_PER_POUND!r} lb"} for a in rig.get("accessories", [])
     ]
+    if rig.get("train"):
+        out["train"] = [_element_in_imperial_units(e) for e in rig["train"]]
+    return out
+
+
+def _element_in_imperial_units(element: dict) -> dict:
+    out = dict(element)
+    for name in _ELEMENT_LENGTHS:
+        if out.get(name) is not None:
+            out[name] = f"{out[name] / MM_PER_INCH!r} in"
+    if out.get("mass_kg") is not None:
+        out["mass_kg"] = f"{out['mass_kg'] / KG_PER_POUND!r} lb"
     return out

@@ -23,7 +23,7 @@ generic rigs (specifications only, no real products) and raises ``AssertionError
                        finite unless declared ``nullable``, whole if declared ``integer``, and has
                        a unit pint can read.
 ``batch_equals_rows``  each row of a comparison equals that rig computed beside the baseline alone.
-``sweep_equals_rows``  a sweep (telescopes × cameras × modifiers × mounts, any baseline) equals,
+``sweep_equals_rows``  a sweep (telescopes × cameras × trains × mounts, any baseline) equals,
                        combination by combination, one row per combined rig.
 ``unit_strings``       lengths in inches and masses in pounds give the canonical-number answer.
 ``relative_outputs``   an output declared ``relative`` (a ratio to the baseline rig) is exactly 1 at
@@ -33,7 +33,7 @@ Floating outputs compare to 1e-12 relative (NaN equal to NaN): the same elementw
 same inputs, where numpy may take a different loop for arrays of different lengths, and inches and
 pounds round-trip through binary floats by a few ulp. Integers, booleans and texts compare exactly.
 The strategies of :mod:`plugins.strategies` (``rig_dicts``, ``rigs``, ``rig_lists``, ``sweeps``,
-``in_imperial_units``), importable from here too, and :func:`compute` and
+``train_dicts``, ``element_dicts``, ``in_imperial_units``), importable from here too, and :func:`compute` and
 :func:`assert_outputs_equal` serve a calculator's own property tests.
 """
 
@@ -70,6 +70,7 @@ from plugins.strategies import (
     KG_PER_POUND,
     MM_PER_INCH,
     camera_dicts,
+    element_dicts,
     in_imperial_units,
     modifier_dicts,
     mount_dicts,
@@ -78,12 +79,14 @@ from plugins.strategies import (
     rigs,
     sweeps,
     telescope_dicts,
+    train_dicts,
 )
 
 __all__ = [  # the checks, and the strategies of plugins.strategies for a calculator's own tests
     "CHECKS", "KG_PER_POUND", "MM_PER_INCH", "RTOL", "Check", "assert_outputs_equal", "camera_dicts",
-    "check_calculator", "compute", "conformance_checks", "in_imperial_units", "modifier_dicts",
-    "mount_dicts", "rig_dicts", "rig_lists", "rigs", "sweeps", "telescope_dicts",
+    "check_calculator", "compute", "conformance_checks", "element_dicts", "in_imperial_units",
+    "modifier_dicts", "mount_dicts", "rig_dicts", "rig_lists", "rigs", "sweeps", "telescope_dicts",
+    "train_dicts",
 ]
 
 RTOL = 1e-12
@@ -226,8 +229,8 @@ def _sweep_equals_rows(check: Check) -> None:
     def sweep_rows(sweep):
         *lists, baseline = sweep
         swept = _run(c, RigBatch.from_components(*lists, baseline=baseline), params)
-        rig_list = [Rig(name="combination", telescope=t, camera=k, modifier=m, mount=n)
-                    for t, k, m, n in itertools.product(*lists)]
+        rig_list = [Rig(name="combination", telescope=t, camera=k, train=r, mount=n)
+                    for t, k, r, n in itertools.product(*lists)]
         flat_baseline = int(np.ravel_multi_index(baseline, tuple(len(items) for items in lists)))
         rows = _run(c, RigBatch.from_rigs(rig_list, baseline=flat_baseline), params)
         assert_outputs_equal(c, {k: v.reshape(-1) for k, v in swept.items()}, rows)
