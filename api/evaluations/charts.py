@@ -64,7 +64,7 @@ def number_text(value: float | None) -> str:
 def nice_ticks(low: float, high: float, count: int = 6) -> list[float]:
     """Round tick values covering [low, high]: steps of 1, 2 or 5 times a power of ten.
 
-    A range narrower than a millionth of its magnitude (or not finite) gets the one tick ``low``:
+    A range narrower than a millionth of its magnitude (or not finite, or below 1e-300) gets the one tick ``low``:
     its steps would be lost in floating-point rounding. The ticks are counted before they are made,
     so their number is bounded (about ``count``) whatever the values."""
     span = high - low
