@@ -87,7 +87,7 @@ def assessment(batch: RigBatch) -> dict[str, np.ndarray]:
     return {
         "design_match": design_match, "focal_ratio_in_range": in_range, "image_circle_mm": circle,
         "image_circle_to_diagonal": ratio, "spacer_mm": spacer, "focus_margin_mm": margin,
-        "code": code,
+        "code": code, "visual": batch["train_has_eyepiece"],
     }
 
 
@@ -104,7 +104,9 @@ def _reasons(out: dict[str, np.ndarray]) -> np.ndarray:
     with np.errstate(invalid="ignore"):
         add(out["focus_margin_mm"] < 0, "the train and camera are longer than the focus travel; ")
         add(code == 3, "the train is longer than the backfocus allows; ")
-        add(out["image_circle_to_diagonal"] < 1, "the image circle is smaller than the sensor diagonal; ")
+        small = out["image_circle_to_diagonal"] < 1
+        add(small & ~out["visual"], "the image circle is smaller than the sensor diagonal; ")
+        add(small & out["visual"], "the image circle is smaller than the eyepiece's field stop; ")
         add(code == 5, "spacers are needed to reach the backfocus; ")
     add(code == 7, "not enough is stated to check the fit; ")
     return np.array([t.rstrip("; ") for t in np.ravel(text)], dtype=str).reshape(code.shape)

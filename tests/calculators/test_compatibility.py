@@ -166,3 +166,17 @@ def test_no_front_or_top_row_is_a_combination_the_calculator_calls_impossible(te
     assert sum(v in IMPOSSIBLE for row in alone for v in row) == sum(result.excluded.values())
     for row in result.front + result.top:
         assert alone[row.indices.telescope][row.indices.train] not in IMPOSSIBLE
+
+
+def test_the_reason_for_a_small_image_circle_names_what_it_must_cover():
+    # The image circle must cover the sensor diagonal (36.1 mm for 6000 × 4000 px at 3.8 µm) on an
+    # imaging rig and the eyepiece's field stop on a visual one; the reason names the one in play.
+    imaging = rig(image_circle_mm=20.0)
+    eyepiece = {"kind": "eyepiece", "focal_length_mm": 25.0, "apparent_field_deg": 52.0, "field_stop_mm": 21.5}
+    visual = Rig(name="visual", telescope={"design": "refractor", "aperture_mm": 80.0, "focal_length_mm": 480.0,
+                                           "image_circle_mm": 20.0}, train=[eyepiece])
+    out = outputs(imaging, visual)
+    assert list(out["verdict"]) == ["vignettes", "vignettes"]
+    assert "smaller than the sensor diagonal" in out["reasons"][0]
+    assert "smaller than the eyepiece's field stop" in out["reasons"][1]
+    assert "sensor" not in out["reasons"][1]
