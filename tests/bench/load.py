@@ -4,8 +4,12 @@ What it does, all on the loopback interface:
 
 1. starts ``rigbench serve --workers N`` (uvicorn with uvloop and httptools; N worker processes behind
    one socket) on a fresh SQLite file, request logs written to a file as in production;
-2. starts a load generator in another process: an asyncio HTTP/1.1 client holding ``--connections``
-   keep-alive connections, each sending its next request as soon as the previous answer is read;
+2. starts a load generator in another process holding ``--connections`` keep-alive connections, each
+   sending its next request as soon as the previous answer is read: ``wrk`` (Debian package ``wrk``,
+   written in C) when it is on the PATH, else an asyncio HTTP/1.1 client in Python (``--generator``).
+   On a 2-core machine the generator shares the cores with the server: the Python client costs
+   several times wrk's CPU per request, which the server's second worker then lacks, so the worker
+   comparison is only fair with wrk;
 3. runs a warm-up, then ``GET /healthz`` and ``POST /v1/comparisons`` (4 inline rigs, the six core
    calculators: light_grasp, etendue, speed, sampling, payload, cost), each bounded by a request
    count and a time limit, and prints requests per second, p50/p99/max latency, the number of
@@ -22,6 +26,8 @@ other work every rate falls; the ratios measured in one run, and the CPU time pe
 
 Run:  .venv/bin/python tests/bench/load.py [--connections 32] [--requests 6000] [--seconds 20]
                                            [--workers 1,2] [--breakdown-requests 2000]
+                                           [--generator auto|wrk|python]
+(wrk takes no request count: with it every run lasts ``--seconds``.)
 """
 
 from __future__ import annotations
@@ -31,6 +37,7 @@ import asyncio
 import json
 import multiprocessing
 import os
+import shutil
 import socket
 import statistics
 import subprocess
@@ -118,14 +125,72 @@ def _generator(port: int, request: bytes, connections: int, count: int, seconds:
     out.send(asyncio.run(_drive(port, request, connections, count, seconds)))
 
 
-def load(port: int, request: bytes, connections: int, count: int, seconds: float) -> dict:
-    """Run the generator in a separate process and return its raw figures."""
+def _python_load(port: int, request: bytes, connections: int, count: int, seconds: float) -> dict:
     receive, send = multiprocessing.Pipe(duplex=False)
     process = multiprocessing.Process(target=_generator, args=(port, request, connections, count, seconds, send))
     process.start()
     result = receive.recv()
     process.join()
-    return result
+    lat = sorted(result["latencies"])
+    n = len(lat)
+    non_2xx = sum(v for k, v in result["statuses"].items() if not 200 <= k < 300)
+    return {"requests": n, "elapsed": result["elapsed"], "p50_s": statistics.median(lat),
+            "p99_s": lat[min(n - 1, int(n * 0.99))], "max_s": lat[-1], "non_2xx": non_2xx}
+
+
+# wrk's script: the request as given (method, path, headers, body), and at the end one JSON line with
+# the figures. wrk counts answers with a status of 400 or more in errors.status; 3xx would pass as
+# success, and none of the two routes answers one.
+WRK_SCRIPT = """
+local f = io.open(os.getenv("RIGBENCH_LOAD_REQUEST"), "rb"); local raw = f:read("*a"); f:close()
+local head, body = raw:match("^(.-)\\r\\n\\r\\n(.*)$")
+local first = true
+for line in head:gmatch("[^\\r\\n]+") do
+  if first then
+    wrk.method, wrk.path = line:match("^(%S+) (%S+)"); first = false
+  else
+    local name, value = line:match("^([^:]+):%s*(.*)$")
+    if name:lower() ~= "host" and name:lower() ~= "content-length" then wrk.headers[name] = value end
+  end
+end
+if #body > 0 then wrk.body = body end
+function done(summary, latency, requests)
+  local e = summary.errors
+  io.write(string.format(
+    'RIGBENCH {"requests": %d, "elapsed_us": %d, "p50_us": %d, "p99_us": %d, "max_us": %d, ' ..
+    '"status_errors": %d, "socket_errors": %d}\\n',
+    summary.requests, summary.duration, latency:percentile(50), latency:percentile(99), latency.max,
+    e.status, e.connect + e.read + e.write + e.timeout))
+end
+"""
+
+
+def _wrk_load(port: int, request: bytes, connections: int, seconds: float) -> dict:
+    with tempfile.TemporaryDirectory(prefix="rigbench-wrk-") as tmp:
+        script, raw = Path(tmp) / "request.lua", Path(tmp) / "request.http"
+        script.write_text(WRK_SCRIPT)
+        raw.write_bytes(request)
+        out = subprocess.run(
+            ["wrk", "-t1", f"-c{connections}", f"-d{max(1, round(seconds))}s", "-s", str(script),
+             f"http://{HOST}:{port}/"],
+            env={**os.environ, "RIGBENCH_LOAD_REQUEST": str(raw)}, capture_output=True, text=True, check=True,
+        ).stdout
+    line = next(line for line in out.splitlines() if line.startswith("RIGBENCH "))
+    f = json.loads(line.removeprefix("RIGBENCH "))
+    return {"requests": f["requests"], "elapsed": f["elapsed_us"] / 1e6, "p50_s": f["p50_us"] / 1e6,
+            "p99_s": f["p99_us"] / 1e6, "max_s": f["max_us"] / 1e6,
+            "non_2xx": f["status_errors"] + f["socket_errors"]}
+
+
+GENERATOR = "python"  # set by main(): "wrk" or "python"
+
+
+def load(port: int, request: bytes, connections: int, count: int, seconds: float) -> dict:
+    """Run the load generator in a separate process: requests, elapsed seconds, p50/p99/max latency
+    in seconds and the count of non-2xx answers (with wrk also failed connections)."""
+    if GENERATOR == "wrk":
+        return _wrk_load(port, request, connections, seconds)
+    return _python_load(port, request, connections, count, seconds)
 
 
 def http_request(method: str, path: str, body: bytes = b"") -> bytes:
@@ -169,13 +234,11 @@ def measured(pid: int, port: int, request: bytes, connections: int, count: int, 
 
 
 def summary(name: str, figures: dict) -> dict:
-    lat = sorted(figures["latencies"])
-    n = len(lat)
-    non_2xx = sum(v for k, v in figures["statuses"].items() if not 200 <= k < 300)
+    n, non_2xx = figures["requests"], figures["non_2xx"]
     row = {
         "name": name, "requests": n, "rate": n / figures["elapsed"],
-        "p50_ms": statistics.median(lat) * 1e3, "p99_ms": lat[min(n - 1, int(n * 0.99))] * 1e3,
-        "max_ms": lat[-1] * 1e3, "non_2xx": non_2xx, "cpu_us": figures["server_cpu_s"] / n * 1e6,
+        "p50_ms": figures["p50_s"] * 1e3, "p99_ms": figures["p99_s"] * 1e3,
+        "max_ms": figures["max_s"] * 1e3, "non_2xx": non_2xx, "cpu_us": figures["server_cpu_s"] / n * 1e6,
     }
     print(f"{name:<22} {row['requests']:>7} req  {row['rate']:>8.0f} req/s  p50 {row['p50_ms']:6.2f} ms"
           f"  p99 {row['p99_ms']:6.2f} ms  max {row['max_ms']:6.1f} ms  non-2xx {non_2xx}"
@@ -262,12 +325,20 @@ def main() -> None:
                         help="requests per route for the in-process breakdown; 0: skip it")
     parser.add_argument("--calculators", choices=("core", "all"), default="core",
                         help="the six core calculators (default) or every loaded one")
+    parser.add_argument("--generator", choices=("auto", "wrk", "python"), default="auto",
+                        help="load generator: wrk when it is installed (default), else the Python client")
     args = parser.parse_args()
+    global GENERATOR
+    GENERATOR = args.generator if args.generator != "auto" else ("wrk" if shutil.which("wrk") else "python")
+    if GENERATOR == "wrk" and not shutil.which("wrk"):
+        raise SystemExit("wrk is not installed (apt-get install wrk), or choose --generator python")
     worker_counts = [int(n) for n in args.workers.split(",")]
 
     body = comparison_body(args.calculators)
     print(f"calculators: {args.calculators}")
-    print(f"load.py: {args.connections} connections, at most {args.requests} requests or {args.seconds:.0f} s "
+    limit = (f"{args.seconds:.0f} s" if GENERATOR == "wrk"
+             else f"at most {args.requests} requests or {args.seconds:.0f} s")
+    print(f"load.py: generator {GENERATOR}, {args.connections} connections, {limit} "
           f"per endpoint; rigbench serve (uvloop + httptools), {os.cpu_count()} CPUs; load average "
           f"{os.getloadavg()[0]:.2f}")
     results = {n: serve_and_load(n, args, body) for n in worker_counts}
