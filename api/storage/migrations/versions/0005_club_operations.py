@@ -122,6 +122,11 @@ def no_overlapping_loans() -> None:
     if op.get_bind().dialect.name == "postgresql":
         # btree_gist lets one GiST index combine = on the item with && on the dates. It goes into
         # public so every schema finds it (it is a trusted extension: a database owner may create it).
+        # IF NOT EXISTS alone is not enough when two schemas of one database migrate at once: both
+        # see the extension missing, and the second fails on pg_extension's unique index once the
+        # first commits. A transaction-scoped advisory lock (released at this migration's commit)
+        # makes the second wait and then find it. The key is arbitrary, fixed, and ours alone.
+        op.execute("SELECT pg_advisory_xact_lock(7263510045)")
         op.execute("CREATE EXTENSION IF NOT EXISTS btree_gist SCHEMA public")
         op.execute(
             "ALTER TABLE loans ADD CONSTRAINT loans_no_overlap EXCLUDE USING gist "
