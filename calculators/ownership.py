@@ -62,8 +62,14 @@ CandidateTrainElement = Annotated[
 
 
 def is_owned(item: Any) -> bool:
-    """Whether a part is marked owned (false for None and for a plain, unmarked model)."""
-    return getattr(item, "owned", False) is True
+    """Whether a part is marked owned (false for None and for a plain, unmarked model).
+
+    Read from the instance's ``__dict__`` (where pydantic keeps field values): ``getattr`` with a
+    default on a model without the field goes through pydantic's ``__getattr__`` and a raised
+    AttributeError, which made this check a quarter of a comparison's cost on many rigs.
+    """
+    fields = getattr(item, "__dict__", None)
+    return fields is not None and fields.get("owned") is True
 
 
 def purchase_sum(items: Sequence) -> float:
