@@ -16,12 +16,12 @@ from api.clubs import fit
 from api.clubs import queries as clubs
 from api.clubs.cache import serve_cached
 from api.clubs.csv_table import clubs_csv, equipment_csv, rigs_csv
-from api.clubs.schemas import ClubComparison, ClubEquipment, ClubList, ClubPublic
+from api.clubs.schemas import ClubComparison, ClubEquipment, ClubList, ClubPublic, ClubRigList, ClubRigPublic
 from api.comparisons.csv_table import comparison_csv
 from api.deps import Caller, RegistryDep, SessionDep, SettingsDep
 from api.http import problems
 from api.http.negotiation import prefers_csv
-from api.schemas import HANDLE_PATTERN, MAX_ID, RigList
+from api.schemas import HANDLE_PATTERN, MAX_ID
 from api.settings import Settings
 from calculators.builtin.target_fit import DEFAULT_TARGET
 
@@ -99,7 +99,9 @@ def get_club_equipment(
 
 
 @router.get(
-    "/{name}/rigs", response_model=RigList, operation_id="list_club_rigs", summary="A club's public rigs",
+    "/{name}/rigs", response_model=ClubRigList, operation_id="list_club_rigs", summary="A club's public rigs",
+    description="One page of the club's public rigs, oldest first, each with its compatibility verdict in "
+    "words (`fit`).",
     responses={**csv_response("The rigs; as CSV, one row per rig with its components' ids and names and "
                               "its compatibility verdict in words (column `fit`)."),
                **problems.responses(404, 422)},
@@ -110,12 +112,16 @@ def list_club_rigs(
 ):
     check_limit(limit, settings)
     items, total = clubs.rigs(session, clubs.find_club(session, name), limit, offset)
+    valid = [rig for rig in items if not rig.invalid]
+    # One vectorised pass of one calculator over at most max_page_size rigs.
+    fits = fit.verdicts(registry, [rig.resolved for rig in valid])
     if wants_csv(request, format):
-        valid = [rig for rig in items if not rig.invalid]
-        # One vectorised pass of one calculator over at most max_page_size rigs.
-        fits = fit.verdicts(registry, [rig.resolved for rig in valid])
         return as_csv(rigs_csv(valid, fits), f"{name}-rigs.csv")
-    return RigList(items=items, total=total, limit=limit, offset=offset)
+    by_id = {rig.id: verdict for rig, verdict in zip(valid, fits)}
+    # Constructed, not validated: a rig stored invalid is listed as stored (api.equipment.readable).
+    listed = [ClubRigPublic.model_construct(_fields_set=rig.model_fields_set | {"fit"}, **dict(rig),
+                                            fit=by_id.get(rig.id)) for rig in items]
+    return ClubRigList(items=listed, total=total, limit=limit, offset=offset)
 
 
 #: The club comparison's own query parameters (the site overrides come on top).

@@ -9,7 +9,7 @@ from datetime import date
 from pydantic import BaseModel, Field, create_model
 
 from api.clubs.operation_schemas import Availability
-from api.schemas import CAMERA, MOUNT, TELESCOPE, TRAIN_ELEMENT, AccountPublic, ListMeta
+from api.schemas import CAMERA, MOUNT, TELESCOPE, TRAIN_ELEMENT, AccountPublic, ListMeta, RigPublic
 from plugins.results import Comparison
 
 
@@ -21,6 +21,23 @@ class ClubList(ListMeta):
     """One page of club accounts."""
 
     items: list[ClubPublic]
+
+
+class ClubRigPublic(RigPublic):
+    """A club's public rig, with whether its parts go together, in words."""
+
+    fit: str | None = Field(
+        default=None, description="The compatibility verdict in plain words, as on the club page and "
+        "in the CSV's `fit` column: e.g. 'fits', 'fits with 3.1 mm of spacers', 'vignettes: image "
+        "circle 18.9 mm < sensor diagonal 27.4 mm'. Null for a rig stored invalid or when the "
+        "compatibility calculator is not loaded.",
+    )
+
+
+class ClubRigList(ListMeta):
+    """One page of a club's public rigs."""
+
+    items: list[ClubRigPublic]
 
 
 def _on_the_shelf(public: type[BaseModel]) -> type[BaseModel]:

@@ -1,4 +1,5 @@
-"""Each club rig's compatibility verdict in words (api/clubs/fit.py), on the club page and in the rigs CSV.
+"""Each club rig's compatibility verdict in words (api/clubs/fit.py), on the club page, in the rigs CSV
+and in the JSON rig listing (`fit`).
 
 The expected words follow from the stated distances by the arithmetic written beside each case
 (backfocus bookkeeping of calculators/builtin/compatibility.py: spacer = backfocus + Σ t·(1 − 1/n)
@@ -15,10 +16,13 @@ import pytest
 from fastapi.testclient import TestClient
 from html_tables import table_by_id
 from rigbench_testing import CAMERA, TELESCOPE
+from sqlalchemy import update
+from sqlmodel import Session
 
 from api.app import create_app
 from api.clubs import fit
 from api.demo import CLUB, seed_demo
+from api.storage.models import RigRow
 from plugins.results import CalculatorResult, OutputValues
 
 BROWSER = {"Accept": "text/html"}
@@ -52,6 +56,12 @@ def csv_fits(client, club) -> dict[str, str]:
     return {row["name"]: row["fit"] for row in csv.DictReader(io.StringIO(response.text))}
 
 
+def json_fits(client, club) -> dict[str, str | None]:
+    response = client.get(f"/v1/clubs/{club}/rigs")
+    assert response.status_code == 200, response.text
+    return {item["name"]: item["fit"] for item in response.json()["items"]}
+
+
 # Demo rigs (api/demo.py, invented values), worked by hand:
 DEMO = {
     # coma corrector backfocus 55 + 2 mm filter at n = 1.46: 2·(1 − 1/1.46) = 0.630; behind it the
@@ -74,12 +84,13 @@ def test_the_demo_rigs_say_their_verdicts_in_words(app, client):
     seed_demo(app.state.engine)
     comparison, rigs = page_tables(client, CLUB)
     cells, words, sheet = verdict_cells(comparison), rig_fits(rigs), csv_fits(client, CLUB)
+    listed = json_fits(client, CLUB)
     api = client.get(f"/v1/clubs/{CLUB}/comparison").json()
     verdicts = dict(zip([r["name"] for r in api["rigs"]],
                         api["results"]["compatibility"]["outputs"]["verdict"]["values"]))
     for name, (verdict, text) in DEMO.items():
         assert verdicts[name] == verdict and cells[name] == (verdict, text)
-        assert words[name] == sheet[name] == text
+        assert words[name] == sheet[name] == listed[name] == text
     # The demo shows the kinds of answer a club sees: one that fits, one needing spacers, visual rigs.
     assert {"fits", "fits with spacers", "vignettes"} <= set(verdicts.values())
     assert len(sheet) == len(api["rigs"]) and all(sheet.values())
@@ -122,9 +133,10 @@ def test_a_rig_that_cannot_be_built_says_why_in_words(client, make_account):
         assert client.post("/v1/rigs", json=body, headers=club.headers).status_code == 201
     comparison, rigs = page_tables(client, "verdict-club")
     cells, words, sheet = verdict_cells(comparison), rig_fits(rigs), csv_fits(client, "verdict-club")
+    listed = json_fits(client, "verdict-club")
     for verdict, _telescope, _train, text in IMPOSSIBLE:
         assert cells[verdict] == (verdict, text)
-        assert words[verdict] == sheet[verdict] == text
+        assert words[verdict] == sheet[verdict] == listed[verdict] == text
 
 
 @pytest.fixture
@@ -144,6 +156,8 @@ def test_without_the_calculator_there_is_no_verdict_but_a_dash(app, without_comp
                    for _a, cells in comparison.body_rows() for c in cells)
     sheet = csv_fits(without_compatibility, CLUB)
     assert len(sheet) == 7 and set(sheet.values()) == {""}
+    listed = json_fits(without_compatibility, CLUB)
+    assert len(listed) == 7 and set(listed.values()) == {None}
 
 
 def test_a_failed_or_null_verdict_gives_no_words():
@@ -177,3 +191,25 @@ def test_a_club_without_rigs_has_a_rigs_csv_with_the_fit_column_and_no_rows(clie
     assert response.status_code == 200
     header = next(csv.reader(io.StringIO(response.text)))
     assert header[-1] == "fit" and csv_fits(client, "empty-club") == {}
+
+
+def test_a_club_rig_stored_invalid_is_listed_with_no_verdict(client, app, make_account):
+    club = make_account("mended-club", kind="club")
+    made = {}
+    for name in ("sound", "broken"):
+        body = {"name": name, "telescope": TELESCOPE, "camera": FLANGED, "visibility": "public"}
+        answer = client.post("/v1/rigs", json=body, headers=club.headers)
+        assert answer.status_code == 201, answer.text
+        made[name] = answer.json()["id"]
+    # An obstruction as wide as the aperture, written straight into the database (as an old
+    # migration or a manual edit would): the rig is read as invalid and gets no verdict.
+    with Session(app.state.engine) as session:
+        row = session.get(RigRow, made["broken"])
+        spec = {**row.spec, "telescope": {**TELESCOPE, "obstruction_mm": TELESCOPE["aperture_mm"]}}
+        session.execute(update(RigRow).where(RigRow.id == row.id).values(spec=spec))
+        session.commit()
+    listed = client.get("/v1/clubs/mended-club/rigs").json()["items"]
+    by_name = {item["name"]: item for item in listed}
+    assert by_name["broken"]["invalid"] is True and by_name["broken"]["fit"] is None
+    assert by_name["sound"]["invalid"] is False
+    assert by_name["sound"]["fit"] == "not checked: the image circle or backfocus is not stated"
