@@ -112,6 +112,24 @@ def _reasons(out: dict[str, np.ndarray]) -> np.ndarray:
     return np.array([t.rstrip("; ") for t in np.ravel(text)], dtype=str).reshape(code.shape)
 
 
+#: Why spacer_mm or focus_margin_mm is null, in the order they are tried (see null_reasons).
+NO_BACKFOCUS = "no element of the train states backfocus_mm: there is no backfocus to reach"
+POWERED = ("the train changes the focal length (a barlow, reducer or another element with focusing "
+           "power): where the focus falls behind it is not worked out")
+NO_CAMERA_HERE = "the rig has no camera: there is no sensor to place"
+NO_FLANGE = "not stated for this rig: camera.flange_to_sensor_mm"
+NO_LENGTH = "not stated for this rig: train.<element>.optical_length_mm"
+NO_TRAVEL = "not stated for this rig: telescope.outward_focus_travel_mm"
+
+
+def _first(shape: tuple[int, ...], *cases: tuple[np.ndarray, str]) -> np.ndarray:
+    """Per rig, the text of the first case whose condition holds ("" where none does)."""
+    text = np.full(shape, "", dtype=object)
+    for condition, words in reversed(cases):
+        text = np.where(np.broadcast_to(condition, shape), words, text)
+    return text
+
+
 class Compatibility(Calculator):
     """Whether a rig can be assembled, and how its train meets the sensor (see the module docstring).
 
@@ -154,6 +172,31 @@ class Compatibility(Calculator):
         "Smith, W. J., Modern Optical Engineering, 4th ed., McGraw-Hill 2008, §2.6: a plane-parallel "
         "plate moves the focus by t·(1 − 1/n) — from memory.",
     )
+
+    def null_reasons(self, batch: RigBatch, params: NoParams) -> dict[str, np.ndarray]:
+        """Why ``spacer_mm`` or ``focus_margin_mm`` is null, in the rig's own fields (the generic
+        fallback would list the train's derived columns, which no one fills in)."""
+        visual = np.asarray(batch["train_has_eyepiece"], dtype=bool)
+        no_camera = np.isnan(batch["pixel_size_um"]) & ~visual
+        no_flange = np.isnan(batch["flange_to_sensor_mm"]) & ~visual
+        shape = np.broadcast_shapes(*(np.shape(a) for a in (
+            visual, no_camera, batch["train_backfocus_mm"], batch["train_powered"])))
+        spacer = _first(
+            shape,
+            (np.isnan(batch["train_backfocus_mm"]), NO_BACKFOCUS),
+            (no_camera, NO_CAMERA_HERE),
+            (no_flange, NO_FLANGE),
+            (np.isnan(batch["train_length_behind_mm"]), NO_LENGTH),
+        )
+        margin = _first(
+            shape,
+            (np.asarray(batch["train_powered"], dtype=bool), POWERED),
+            (np.isnan(batch["outward_focus_travel_mm"]), NO_TRAVEL),
+            (no_camera, NO_CAMERA_HERE),
+            (no_flange, NO_FLANGE),
+            (np.isnan(batch["train_length_mm"]), NO_LENGTH),
+        )
+        return {"spacer_mm": spacer, "focus_margin_mm": margin}
 
     def compute(self, batch: RigBatch, params: NoParams) -> dict[str, np.ndarray]:
         out = assessment(batch)

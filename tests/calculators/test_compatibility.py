@@ -10,10 +10,12 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from calculators.base import NoParams
+from calculators.builtin import compatibility
 from calculators.batch import RigBatch
 from calculators.builtin.compatibility import IMPOSSIBLE, Compatibility
 from calculators.schemas import Rig
 from calculators.train_elements import barlow_factor, filter_focus_shift_mm, reducer_factor
+from plugins.compare import comparison_tree
 from plugins.testing import conformance_checks
 
 CALC = Compatibility()
@@ -180,3 +182,30 @@ def test_the_reason_for_a_small_image_circle_names_what_it_must_cover():
     assert "smaller than the sensor diagonal" in out["reasons"][0]
     assert "smaller than the eyepiece's field stop" in out["reasons"][1]
     assert "sensor" not in out["reasons"][1]
+
+
+def test_a_null_spacer_or_focus_margin_says_which_field_of_the_rig_would_give_it():
+    # Each rig lacks one thing the formulas of the module docstring need; the null says which, in
+    # the rig's own fields, never the train's derived columns.
+    camera = {"pixel_size_um": 3.8, "width_px": 6000, "height_px": 4000}
+    telescope = {"design": "refractor", "aperture_mm": 80.0, "focal_length_mm": 480.0, "image_circle_mm": 40.0}
+    reducer = {"kind": "reducer", "factor": 0.8, "backfocus_mm": 55.0}
+    rigs = {
+        "barlow": Rig(name="barlow", telescope={**telescope, "outward_focus_travel_mm": 40.0},
+                      train=[{"kind": "barlow", "factor": 2.0}], camera={**camera, "flange_to_sensor_mm": 17.5}),
+        "no flange": Rig(name="no flange", telescope={**telescope, "outward_focus_travel_mm": 40.0},
+                         train=[{"kind": "spacer", "optical_length_mm": 10.0}], camera=camera),
+        "reducer, no flange": Rig(name="reducer, no flange", telescope=telescope, train=[reducer], camera=camera),
+        "no travel": Rig(name="no travel", telescope=telescope, camera={**camera, "flange_to_sensor_mm": 17.5}),
+    }
+    names = list(rigs)
+    tree = comparison_tree(list(rigs.values()), ["compatibility"])
+    outputs = tree["results"]["compatibility"]["outputs"]
+    spacer = dict(zip(names, outputs["spacer_mm"]["null_reasons"]))
+    margin = dict(zip(names, outputs["focus_margin_mm"]["null_reasons"]))
+    assert margin["barlow"] == margin["reducer, no flange"] == compatibility.POWERED
+    assert margin["no flange"] == spacer["reducer, no flange"] == compatibility.NO_FLANGE
+    assert margin["no travel"] == compatibility.NO_TRAVEL
+    assert spacer["barlow"] == spacer["no travel"] == compatibility.NO_BACKFOCUS
+    every = [r for out in ("spacer_mm", "focus_margin_mm") for r in outputs[out]["null_reasons"] if r]
+    assert not any("train_" in r for r in every)  # no derived column names
