@@ -165,6 +165,10 @@ def camera_dicts(draw, with_mass: bool | None = None, wide: bool = False) -> dic
                          "dark_current_e_per_s": _floats(0, 0.5)}, with_mass)
     if with_mass if with_mass is not None else draw(st.booleans()):
         camera["mass_kg"] = draw(_floats(0.1, 2))
+    # Where the sensor sits behind the mounting face, and the kind of sensor: maybe stated, as on
+    # real cameras' sheets (a calculator must not assume either is there).
+    _some(draw, camera, {"flange_to_sensor_mm": _floats(5, 60),
+                         "sensor": st.sampled_from(["mono", "colour"])}, None)
     return camera
 
 
