@@ -8,9 +8,12 @@ Rules, enforced here and documented in README:
 
 * a rig slot may reference only equipment its owner can read (their own, or someone's public item);
 * a public rig may reference only public equipment, so a public rig never shows a private item;
+  likewise a club's members-only rig may reference only public or members-only equipment, so it never
+  shows the club's members an item the club keeps private;
 * equipment a rig references cannot be deleted (409 naming the rigs); the database's foreign keys
   refuse it too, should two requests race;
-* equipment that the owner's own public rigs use cannot be made private (409); rigs of other accounts
+* equipment that the owner's own public rigs use cannot be made private or members-only, nor what its
+  own members-only rigs use private (409); rigs of other accounts
   never block it: they keep a copy of the item's spec (api.equipment.copies), as they do when the
   owner retires it; a change that would make a rig using it invalid (e.g. a focal ratio below the
   physical minimum with that rig's reducer) is refused (409 naming the rigs);
@@ -146,15 +149,20 @@ def _used_by(label: str, item_id: int, rigs: Sequence[RigRow], principal: Princi
     )
 
 
+#: Who may read an item, narrowest first: a rig may not be seen by more people than its parts.
+_WIDTH = {Visibility.private.value: 0, Visibility.members.value: 1, Visibility.public.value: 2}
+
+
 def _equipment_hooks(label: str, slot: str):
     def before_change(session: Session, principal: Principal, row: StoredItem, values: dict[str, Any]) -> None:
         rigs = _locked_rigs_using(session, slot, row)
         if not rigs:
             return
-        if values["visibility"] != Visibility.public.value and row.visibility == Visibility.public.value:
-            own_public = [r for r in rigs if r.visibility == Visibility.public.value and r.owner_id == row.owner_id]
-            if own_public:
-                raise _used_by(label, row.id, own_public, principal, "make those rigs private first")
+        if _WIDTH[values["visibility"]] < _WIDTH[row.visibility]:  # fewer people may read it now
+            wider = [r for r in rigs if r.owner_id == row.owner_id and _WIDTH[r.visibility] > _WIDTH[values["visibility"]]]
+            if wider:
+                first = "private" if values["visibility"] == Visibility.private.value else "members-only or private"
+                raise _used_by(label, row.id, wider, principal, f"make those rigs {first} first")
             others = [r for r in rigs if r.owner_id != row.owner_id]
             if others:
                 # Other accounts' rigs keep a copy of the item as it is now; they cannot block its owner.
@@ -223,6 +231,7 @@ class SlotRequest:
     slots: dict[str, Any]  # slot -> Ref | inline model | None
     loc: tuple[Any, ...] = ()
     public_only: bool = False
+    members_only: bool = False  # a members-only rig: public or members-only equipment, not private
     # False when ``loc`` already names the item (a list entry such as ("telescopes", 3)), so
     # errors read "telescopes.3.id" rather than "telescopes.3.telescope.id".
     slot_in_path: bool = True
@@ -267,7 +276,12 @@ def resolve_slots(
         elif request.public_only and row.visibility != Visibility.public.value:
             errors.append(FieldError(
                 field=where,
-                message=f"{what} {value.id} is private; a public rig may use only public equipment",
+                message=f"{what} {value.id} is {row.visibility}; a public rig may use only public equipment",
+            ))
+        elif request.members_only and row.visibility == Visibility.private.value:
+            errors.append(FieldError(
+                field=where, message=f"{what} {value.id} is private; a members-only rig may use only "
+                "public or members-only equipment",
             ))
         else:
             if mine is not None and principal is not None and row.owner_id == principal.account.id:
@@ -373,9 +387,10 @@ def _is_ref(value: Any) -> bool:
 
 
 def _rig_prepare(session: Session, principal: Principal, body: BaseModel) -> dict[str, Any]:
-    public = body.visibility == Visibility.public
+    public, members = body.visibility == Visibility.public, body.visibility == Visibility.members
     given = body_slots(body)
-    [slots] = resolve_slots(session, principal, [SlotRequest(given, public_only=public)], lock=True)
+    [slots] = resolve_slots(session, principal, [SlotRequest(given, public_only=public, members_only=members)],
+                            lock=True)
     full_rig(body, slots)
     spec = body.model_dump(mode="json", exclude={"visibility", "modifier", TRAIN})
     spec[TRAIN] = [item.model_dump(mode="json") for item in given[TRAIN]]

@@ -139,3 +139,52 @@ def test_rig_list_resolves_every_rig(client, alice):
     page = client.get("/v1/rigs").json()
     assert page["total"] == 3
     assert {r["resolved"]["camera"]["width_px"] for r in page["items"]} == {CAMERA["width_px"]}
+
+
+def test_a_members_only_rig_uses_no_private_equipment(client, make_account):
+    # A club's members see its members-only rigs resolved: a private part would show them an item
+    # the club keeps to itself, so it is refused as a public rig's private part is.
+    club = make_account("rig-rule-club", kind="club")
+    private, members, public = (store(client, club, "cameras", v) for v in ("private", "members", "public"))
+    refused = client.post("/v1/rigs", json={"name": "r", "telescope": TELESCOPE, "camera": {"id": private},
+                                            "visibility": "members"}, headers=club.headers)
+    body = assert_problem(refused, 422, "camera.id")
+    assert "members-only rig" in body["errors"][0]["message"]
+    for camera in (members, public):
+        made = client.post("/v1/rigs", json={"name": "r", "telescope": TELESCOPE, "camera": {"id": camera},
+                                             "visibility": "members"}, headers=club.headers)
+        assert made.status_code == 201, made.text
+    # The same rule when a private rig is widened later.
+    rig = client.post("/v1/rigs", json={"name": "r", "telescope": TELESCOPE, "camera": {"id": private}},
+                      headers=club.headers).json()
+    assert_problem(client.patch(f"/v1/rigs/{rig['id']}", json={"visibility": "members"}, headers=club.headers),
+                   422, "camera.id")
+    # A public rig still needs public parts: a members-only one is refused, naming its visibility.
+    body = assert_problem(client.post("/v1/rigs", json={"name": "r", "telescope": TELESCOPE,
+                                                        "camera": {"id": members}, "visibility": "public"},
+                                      headers=club.headers), 422, "camera.id")
+    assert "is members" in body["errors"][0]["message"]
+
+
+def test_own_rigs_keep_their_parts_at_least_as_visible_as_themselves(client, make_account):
+    club = make_account("narrowing-club", kind="club")
+    scope = store(client, club, "telescopes", "public")
+    public_rig = client.post("/v1/rigs", json={"name": "p", "telescope": {"id": scope}, "camera": CAMERA,
+                                               "visibility": "public"}, headers=club.headers).json()
+    members_rig = client.post("/v1/rigs", json={"name": "m", "telescope": {"id": scope}, "camera": CAMERA,
+                                                "visibility": "members"}, headers=club.headers).json()
+    # Members-only would hide it from the public rig's readers; private also from the members'.
+    body = assert_problem(client.patch(f"/v1/telescopes/{scope}", json={"visibility": "members"},
+                                       headers=club.headers), 409)
+    assert body["rigs"] == [public_rig["id"]]
+    body = assert_problem(client.patch(f"/v1/telescopes/{scope}", json={"visibility": "private"},
+                                       headers=club.headers), 409)
+    assert sorted(body["rigs"]) == sorted([public_rig["id"], members_rig["id"]])
+    # Once the public rig is members-only, the telescope may be too, but not private.
+    assert client.patch(f"/v1/rigs/{public_rig['id']}", json={"visibility": "members"},
+                        headers=club.headers).status_code == 200
+    assert client.patch(f"/v1/telescopes/{scope}", json={"visibility": "members"},
+                        headers=club.headers).status_code == 200
+    body = assert_problem(client.patch(f"/v1/telescopes/{scope}", json={"visibility": "private"},
+                                       headers=club.headers), 409)
+    assert "members-only" not in body["detail"] and "make those rigs private first" in body["detail"]
