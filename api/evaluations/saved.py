@@ -29,7 +29,6 @@ from api.evaluations.request import (
     entries_of,
     EvaluationRequest,
     as_problem,
-    candidate,
     check_size,
     inline_components,
     needs_database,
@@ -278,7 +277,8 @@ def stored_equipment(session: Session, row: SavedEvaluationRow, principal: Princ
                     was = {k: v for k, v in saved.items() if k != "owned"}
                     changed = sorted(k for k in {*now, *was} if now.get(k) != was.get(k))
                     status = "changed" if changed else "unchanged"
-                    current[(kind, entry["index"], position)] = model
+                    if kind != "eyepiece" or now.get("kind") == "eyepiece":  # else the copy stands in
+                        current[(kind, entry["index"], position)] = model
             entries.append(StoredEntry(kind=kind, index=entry["index"], position=position, id=entry["id"],
                                        name=saved.get("name"), status=status, changed_fields=changed))
     entries.sort(key=lambda e: (KINDS.index(e.kind), e.index, e.position or 0))

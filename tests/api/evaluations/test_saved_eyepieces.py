@@ -206,3 +206,19 @@ def test_the_charts_sample_sweeps_the_eyepieces_as_the_engine_does(cameras):
     keys = {drawn.key(j) for j in range(drawn.size)}
     named = {indices_of(row) for row in result.front}
     assert named <= keys and any(row.indices.eyepiece is not None for row in result.front)
+
+
+def test_a_stored_eyepiece_made_into_another_element_is_changed_and_its_copy_stands_in(client, alice):
+    eyepiece_id = stored_eyepiece(client, alice)
+    item = save(client, alice, visual_body(eyepieces=[{"id": eyepiece_id}]))
+    patched = client.patch(f"/v1/train-elements/{eyepiece_id}", json={
+        "kind": "barlow", "factor": 2.0, "focal_length_mm": None, "apparent_field_deg": None,
+        "field_stop_mm": None, "eye_relief_mm": None},
+        headers=alice.headers)
+    assert patched.status_code == 200, patched.text
+    [entry] = client.get(f"{SAVED}/{item['id']}", headers=alice.headers).json()["stored_equipment"]
+    assert entry["status"] == "changed" and "kind" in entry["changed_fields"]
+    rerun = client.post(f"{SAVED}/{item['id']}/rerun", headers=alice.headers)
+    assert rerun.status_code == 200, rerun.text
+    assert rerun.json()["result"] == item["result"]
+    assert client.get(f"{item['report_url']}/now", headers=alice.headers).status_code == 200
