@@ -1,8 +1,8 @@
 """Saved evaluations: a purchase evaluation kept with its answer, its owner and its visibility.
 
 What is kept (``SavedEvaluationRow``): the request as sent; a copy of every component it was
-computed from (a stored ``{"id": N}`` entry copied as it was at saving, so the report can always be
-drawn); which entries were stored ids; and the answer. Reading one later compares each stored
+computed from, the candidate eyepieces among them (a stored ``{"id": N}`` entry copied as it was at
+saving, so the report can always be drawn); which entries were stored ids; and the answer. Reading one later compares each stored
 entry with the equipment as it is now (``unchanged``, ``changed``, ``retired`` or ``gone`` —
 deleted, or no longer readable by the caller), and a re-run computes the answer again from today's
 equipment (the copy standing in for what is gone) and says what changed.
