@@ -222,3 +222,34 @@ def test_a_stored_eyepiece_made_into_another_element_is_changed_and_its_copy_sta
     assert rerun.status_code == 200, rerun.text
     assert rerun.json()["result"] == item["result"]
     assert client.get(f"{item['report_url']}/now", headers=alice.headers).status_code == 200
+
+
+def test_a_stored_eyepiece_changed_while_computing_is_a_409_naming_it(app, client, alice):
+    from sqlmodel import Session
+
+    from api.accounts.keys import authenticate
+    from api.evaluations import saved
+    from api.http.problems import ApiProblem
+
+    eyepiece_id = stored_eyepiece(client, alice)
+    body = saved.SavedEvaluationCreate.model_validate(
+        {**visual_body(eyepieces=[EYEPIECES[1], {"id": eyepiece_id}]), "name": "by eye"})
+    with Session(app.state.engine) as session:
+        principal = authenticate(session, alice.key)
+    components, _ids, spec, result = saved.compute(app.state.engine, principal, body, registry=app.state.registry,
+                                                   maximum=10_000, max_front_rows=10_000)
+    client.patch(f"/v1/train-elements/{eyepiece_id}", json={"focal_length_mm": 32}, headers=alice.headers)
+    with Session(app.state.engine) as session, pytest.raises(ApiProblem) as refused:
+        saved.save(session, principal, body, components, spec.params, result)
+    assert refused.value.status == 409
+    assert [e.field for e in refused.value.errors] == ["eyepieces.1.id"]
+
+
+def test_the_unsaved_report_draws_stored_eyepieces_too(client, alice):
+    eyepiece_id = stored_eyepiece(client, alice)
+    body = visual_body(eyepieces=[{"id": eyepiece_id}, EYEPIECES[1]])
+    page = client.post("/v1/evaluations/report", json=body, headers=alice.headers)
+    assert page.status_code == 200, page.text
+    answer = unsaved(client, alice, body)
+    assert page.text.count('data-front="true"') == len(answer["front"])
+    assert f"Eyepiece: {EYEPIECES[answer['top'][0]['indices']['eyepiece']]['name']}" in sheet_parts(page.text, 1)
