@@ -2,10 +2,10 @@
 
 What is kept (``SavedEvaluationRow``): the request as sent; a copy of every component it was
 computed from, the candidate eyepieces among them (a stored ``{"id": N}`` entry copied as it was at
-saving, so the report can always be drawn); which entries were stored ids; and the answer. Reading one later compares each stored
-entry with the equipment as it is now (``unchanged``, ``changed``, ``retired`` or ``gone`` —
-deleted, or no longer readable by the caller), and a re-run computes the answer again from today's
-equipment (the copy standing in for what is gone) and says what changed.
+saving, so the report can always be drawn); which entries were stored ids; and the answer. Reading
+one later compares each stored entry with the equipment as it is now (``unchanged``, ``changed``,
+``retired`` or ``gone`` — deleted, or no longer readable by the caller), and a re-run computes the
+answer again from today's equipment (the copy standing in for what is gone) and says what changed.
 
 Privacy: a saved evaluation is read like other stored items (its owner, or anyone when public);
 one that is private to someone else is a 404, never a 403. A public one may use only public stored

@@ -114,9 +114,7 @@ def _describe(kind: str, part) -> str:
         return f"{part.width_px} × {part.height_px} px at {part.pixel_size_um:g} µm"
     if kind == "mount":
         return f"{part.type}, rated {part.capacity_kg:g} kg" if getattr(part, "capacity_kg", None) else str(part.type)
-    if kind == "eyepiece":
-        return eyepiece_words(part)
-    if _kind(part) == "eyepiece":
+    if kind == "eyepiece" or _kind(part) == "eyepiece":  # a candidate, or a train's last element
         return eyepiece_words(part)
     factor = getattr(part, "factor", None)
     words = str(getattr(part, "kind", kind))
