@@ -5,8 +5,8 @@ Pure functions from plain numbers to SVG text, in the club pictures' look and pa
 words), presentation attributes only, so they work under a strict Content-Security-Policy and as
 standalone files.
 
-Every drawn combination carries ``data-indices="t,c,m,n"`` (its indices into the request's lists)
-and ``data-x`` / ``data-y`` (its values, 7 significant figures); the front's points also carry
+Every drawn combination carries ``data-indices="t,c,r,m,b"`` (its indices into the request's lists
+and its binning factor; ``"t,-,r,m,-,e"`` for a visual one with eyepiece e) and ``data-x`` / ``data-y`` (its values, 7 significant figures); the front's points also carry
 ``data-front="true"``, the top picks ``data-pick="<rank>"`` and the baseline
 ``data-baseline="true"``, so a test (or a script) can read back exactly what is drawn.
 """
@@ -93,7 +93,7 @@ def _data(value: float) -> str:
 
 
 def _indices(ix: Indices) -> str:
-    return ",".join(map(str, ix))
+    return ",".join("-" if i is None else str(i) for i in ix)  # a visual combination has no camera
 
 
 # Where a pick's number may go, around its ring: near first, then further out with a leader line.

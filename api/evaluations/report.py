@@ -63,7 +63,7 @@ def context(spec: EvaluationSpec, components, result: EvaluationResult, registry
         xs = drawn.values[keys[0]]
         ys = drawn.values[keys[1]] if len(keys) > 1 else None
         for j in map(int, drawn.feasible.nonzero()[0]):
-            cloud.append(charts.Point(tuple(int(v) for v in drawn.indices[j]), float(xs[j]),
+            cloud.append(charts.Point(drawn.key(j), float(xs[j]),
                                       None if ys is None else float(ys[j])))
     if drawn.size < drawn.evaluated:
         sampled = (f"{drawn.size:,} of {drawn.evaluated:,} combinations sampled at random (fixed seed); "

@@ -38,7 +38,7 @@ def local_report(body: dict[str, Any], answer: dict[str, Any], settings: Setting
     from plugins.registry import load_registry
 
     spec = InlineEvaluationRequest.model_validate(body)  # already validated by the sweep
-    components = (spec.telescopes, spec.cameras, spec.trains, spec.mounts)
+    components = (spec.telescopes, spec.cameras, spec.trains, spec.mounts, spec.eyepieces)
     return render(spec, components, EvaluationResult.model_validate(answer),
                   load_registry(disabled=settings.disabled_plugins), title="Purchase evaluation", standalone=True)
 

@@ -11,6 +11,7 @@ from pydantic import BaseModel, Field
 from api.accounts.keys import Principal
 from api.evaluations.request import MAX_FRONT_ROWS
 from api.evaluations.saved import (
+    KINDS,
     StoredEntry,
     compute,
     report_path,
@@ -66,13 +67,13 @@ def rerun_components(row: SavedEvaluationRow, current: dict[tuple[str, int], Any
     for (kind, index, position), model in current.items():
         # Owned as it was when saved (the request said so, or it was the saver's own item).
         if position is None:
-            was = lists[AXES.index(kind)][index]
-            lists[AXES.index(kind)][index] = as_owned(model, is_owned(was))
+            was = lists[KINDS.index(kind)][index]
+            lists[KINDS.index(kind)][index] = as_owned(model, is_owned(was))
         else:  # an element of a train
-            was = lists[AXES.index(kind)][index][position]
-            lists[AXES.index(kind)][index][position] = as_owned(model, is_owned(was))
-    ids = {kind: [None] * len(items) for kind, items in zip(AXES, lists)}
-    ids["train"] = [[None] * len(train) for train in lists[AXES.index("train")]]
+            was = lists[KINDS.index(kind)][index][position]
+            lists[KINDS.index(kind)][index][position] = as_owned(model, is_owned(was))
+    ids = {kind: [None] * len(items) for kind, items in zip(KINDS, lists)}
+    ids["train"] = [[None] * len(train) for train in lists[KINDS.index("train")]]
     for entry in row.spec.get("stored", []):
         if entry.get("position") is None:
             ids[entry["kind"]][entry["index"]] = entry["id"]

@@ -21,7 +21,7 @@ from calculators.batch import RigBatch
 from calculators.evaluation_schemas import EvaluationSpec
 from calculators.schemas import MIN_FOCAL_RATIO
 from calculators.sweep import EvaluationError, resolve_key
-from calculators.sweep.detectors import entries
+from calculators.sweep.detectors import check_visual_trains, entries
 from calculators.sweep.plan import baseline_indices
 from plugins.runner import parse_params, run
 
@@ -33,16 +33,33 @@ SEED = 20261202
 @dataclass(frozen=True)
 class Sample:
     """Sampled combinations: ``indices`` (n, 5: telescope, camera, train, mount, binning factor),
+    ``eyepieces`` (n,), -1 where a combination has none (a visual one has no camera or factor),
     ``values`` per key (n,), ``feasible`` (n,)."""
 
     evaluated: int
     indices: np.ndarray
+    eyepieces: np.ndarray
     values: dict[str, np.ndarray]
     feasible: np.ndarray
 
     @property
     def size(self) -> int:
         return int(self.indices.shape[0])
+
+    def key(self, j: int) -> tuple:
+        """Combination j as the report names it (see :func:`combination_key`)."""
+        t, c, r, m, b = (None if v < 0 else int(v) for v in self.indices[j])
+        e = int(self.eyepieces[j])
+        return combination_key(t, c, r, m, b, None if e < 0 else e)
+
+
+def combination_key(telescope, camera, train, mount, binning, eyepiece) -> tuple:
+    """A combination as the report names it: telescope, camera, train, mount and binning factor (1
+    for a result saved before binning); a visual one with an eyepiece has no camera or factor and
+    its eyepiece last."""
+    if eyepiece is not None:
+        return (telescope, None, train, mount, None, eyepiece)
+    return (telescope, camera, train, mount, binning or 1)
 
 
 def canonical(key: str, calculators: Mapping) -> str:
@@ -62,8 +79,11 @@ def pick(evaluated: int, size: int = SAMPLE_SIZE, seed: int = SEED) -> np.ndarra
 
 def sample(components: Sequence[Sequence], spec: EvaluationSpec, calculators: Mapping,
            size: int = SAMPLE_SIZE) -> Sample:
-    # The camera axis holds each camera at each binning factor, as the sweep lays it out.
-    axis = entries(components[1], spec.binning, ())
+    # The camera axis holds each camera at each binning factor, then each eyepiece, as the sweep
+    # lays it out.
+    eyepieces = components[4] if len(components) > 4 else ()
+    visual_trains = check_visual_trains(components[2], bool(components[1]), bool(eyepieces))
+    axis = entries(components[1], spec.binning, eyepieces, visual_trains)
     sizes = (len(components[0]), axis.size, len(components[2]), len(components[3]))
     evaluated = math.prod(sizes)
     flat = pick(evaluated, size)
@@ -71,7 +91,8 @@ def sample(components: Sequence[Sequence], spec: EvaluationSpec, calculators: Ma
     rows = np.union1d(flat, [base])
     index = np.unravel_index(rows, sizes)
     sweep = RigBatch.from_components(components[0], axis.cameras, components[2], components[3],
-                                     binning=axis.binning, accessories=spec.accessories,
+                                     binning=axis.binning, eyepieces=axis.eyepieces,
+                                     accessories=spec.accessories,
                                      geometry=spec.geometry)
     columns = {}
     for name, column in sweep.columns.items():
@@ -106,8 +127,15 @@ def sample(components: Sequence[Sequence], spec: EvaluationSpec, calculators: Ma
         if bounds.max is not None:
             feasible &= v <= bounds.max
     keep = np.isin(rows, flat)  # the baseline only served as the reference row
-    # Indices as the answer's rows name them: telescope, camera, train, mount, binning factor.
-    cameras = np.array(axis.camera_index)[index[1]]
-    factors = np.array(axis.binning)[index[1]]
+    # Indices as the answer's rows name them: telescope, camera, train, mount, binning factor (-1
+    # for none), and the eyepiece apart.
+    def column(values) -> np.ndarray:
+        return np.array([-1 if v is None else v for v in values], dtype=np.int64)[index[1]]
+
+    cameras, eyepieces = column(axis.camera_index), column(axis.eyepiece_index)
+    factors = np.where(cameras < 0, -1, np.array(axis.binning)[index[1]])
+    if visual_trains:  # one entry with neither: rows name it with binning 1, as before binning existed
+        factors = np.ones_like(factors)
     named = np.stack((index[0], cameras, index[2], index[3], factors), axis=1)
-    return Sample(evaluated, named[keep], {k: v[keep] for k, v in values.items()}, feasible[keep])
+    return Sample(evaluated, named[keep], eyepieces[keep], {k: v[keep] for k, v in values.items()},
+                  feasible[keep])

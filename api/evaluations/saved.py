@@ -1,11 +1,11 @@
 """Saved evaluations: a purchase evaluation kept with its answer, its owner and its visibility.
 
 What is kept (``SavedEvaluationRow``): the request as sent; a copy of every component it was
-computed from (a stored ``{"id": N}`` entry copied as it was at saving, so the report can always be
-drawn); which entries were stored ids; and the answer. Reading one later compares each stored
-entry with the equipment as it is now (``unchanged``, ``changed``, ``retired`` or ``gone`` —
-deleted, or no longer readable by the caller), and a re-run computes the answer again from today's
-equipment (the copy standing in for what is gone) and says what changed.
+computed from, the candidate eyepieces among them (a stored ``{"id": N}`` entry copied as it was at
+saving, so the report can always be drawn); which entries were stored ids; and the answer. Reading
+one later compares each stored entry with the equipment as it is now (``unchanged``, ``changed``,
+``retired`` or ``gone`` — deleted, or no longer readable by the caller), and a re-run computes the
+answer again from today's equipment (the copy standing in for what is gone) and says what changed.
 
 Privacy: a saved evaluation is read like other stored items (its owner, or anyone when public);
 one that is private to someone else is a 404, never a 403. A public one may use only public stored
@@ -29,11 +29,10 @@ from api.evaluations.request import (
     entries_of,
     EvaluationRequest,
     as_problem,
-    candidate,
     check_size,
     inline_components,
     needs_database,
-    resolve_components,
+    resolve_request,
     sizes,
     with_site,
 )
@@ -46,11 +45,17 @@ from api.storage.models import CameraRow, MountRow, SavedEvaluationRow, Telescop
 from calculators.batch import AXES
 from calculators.evaluation_schemas import EvaluationResult
 from calculators.ownership import CandidateTrainElement, candidate_model
-from calculators.schemas import Camera, Name
+from calculators.schemas import Name
 from calculators.sweep import EvaluationError, evaluate_spec
 from calculators.train_elements import train_element
 
-TABLES = {"telescope": TelescopeRow, "camera": CameraRow, "train": TrainElementRow, "mount": MountRow}
+TABLES = {"telescope": TelescopeRow, "camera": CameraRow, "train": TrainElementRow, "mount": MountRow,
+          "eyepiece": TrainElementRow}
+
+#: What a saved evaluation keeps copies of: the engine's axes, then the candidate eyepieces
+#: (``components`` here is a tuple in this order).
+KINDS = (*AXES, "eyepiece")
+SAVED_LISTS = {**LISTS, "eyepiece": "eyepieces"}
 
 
 _CANDIDATE_ELEMENT = TypeAdapter(CandidateTrainElement)
@@ -58,7 +63,7 @@ _CANDIDATE_ELEMENT = TypeAdapter(CandidateTrainElement)
 
 def _model(kind: str, spec: dict) -> Any:
     """A component from its stored spec or saved copy (a copy keeps ``owned``, as it was computed)."""
-    if kind == "train":
+    if kind in ("train", "eyepiece"):
         return _CANDIDATE_ELEMENT.validate_python(spec)
     return candidate_model(MODELS[kind]).model_validate(spec)
 
@@ -84,19 +89,6 @@ class SavedEvaluationCreate(EvaluationRequest):
 
     _name_has_no_nul = field_validator("name")(refuse_nul)
 
-    # The report page and re-runs show cameras: visual combinations are not kept yet.
-    cameras: list[candidate(Camera)] = Field(
-        min_length=1, description='Inline cameras or {"id": N} of stored ones you may read, each '
-        "may say `owned` (a saved evaluation needs at least one; it does not keep eyepieces yet).")
-
-    @field_validator("eyepieces")
-    @classmethod
-    def _no_eyepieces(cls, value: list) -> list:
-        if value:
-            raise ValueError("a saved evaluation does not keep eyepieces yet; evaluate visual "
-                             "combinations with POST /v1/evaluations")
-        return value
-
 
 Status = Literal["unchanged", "changed", "retired", "gone"]
 
@@ -104,7 +96,7 @@ Status = Literal["unchanged", "changed", "retired", "gone"]
 class StoredEntry(BaseModel):
     """One ``{"id": N}`` entry of the saved request, compared with that equipment now."""
 
-    kind: Literal["telescope", "camera", "train", "mount"]
+    kind: Literal["telescope", "camera", "train", "mount", "eyepiece"]
     index: int = Field(description="Position in the request's list of that kind.")
     position: int | None = Field(default=None, description="For a train: the element's place in it.")
     id: int
@@ -140,21 +132,23 @@ def report_path(item_id: int) -> str:
 
 def compute(engine: Engine, principal: Principal | None, body: EvaluationRequest, *, registry,
             maximum: int, max_front_rows: int, components=None, ids=None):
-    """The components (stored ids resolved, unless given), their ids, the request with the site's
-    conditions in its params, and the answer, as ``POST /v1/evaluations`` computes it; problems
-    name the field."""
+    """The components (telescopes, cameras, trains, mounts, eyepieces; stored ids resolved, unless
+    given), their ids, the request with the site's conditions in its params, and the answer, as
+    ``POST /v1/evaluations`` computes it; problems name the field."""
     check_size(body, maximum)
     if components is None and needs_database(body):
-        components, ids = resolve_components(engine, principal, body)
+        four, ids, eyepieces = resolve_request(engine, principal, body)
+        components = (*four, eyepieces)
     elif components is None:
-        components, ids = inline_components(body), None
+        components, ids = (*inline_components(body), list(body.eyepieces)), None
     site, site_id = body.site, None
     if isinstance(site, Ref):
         site, site_id = read_site(engine, principal, site)
     spec, used = with_site(body, site, site_id, registry.calculators)
     try:
-        result = evaluate_spec(*components, spec, calculators=registry.calculators, ids=ids,
-                               max_combinations=maximum, max_front_rows=max_front_rows)
+        result = evaluate_spec(*components[:4], spec, calculators=registry.calculators, ids=ids,
+                               max_combinations=maximum, max_front_rows=max_front_rows,
+                               eyepieces=components[4])
     except EvaluationError as exc:
         raise as_problem(exc, sizes(body)) from None
     if used is not None:
@@ -162,17 +156,24 @@ def compute(engine: Engine, principal: Principal | None, body: EvaluationRequest
     return components, ids, spec, result
 
 
+def kept_entries(body: EvaluationRequest, kind: str):
+    """(index, position in the train or None, value) of every candidate of one kind kept."""
+    if kind == "eyepiece":
+        return ((i, None, value) for i, value in enumerate(body.eyepieces))
+    return entries_of(body, kind)
+
+
 def snapshot(body: EvaluationRequest, components, params: dict[str, Any]) -> dict[str, Any]:
     """What the row's ``spec`` keeps: the request, a copy of every component, the stored entries,
     and the params the answer was computed with (a site's conditions filled in)."""
     request = body.model_dump(mode="json", exclude={"name", "visibility"}, exclude_unset=True)
     copies = {
-        LISTS[kind]: [[_dump(e) for e in c] if kind == "train" else _dump(c) for c in items]
-        for kind, items in zip(AXES, components)
+        SAVED_LISTS[kind]: [[_dump(e) for e in c] if kind == "train" else _dump(c) for c in items]
+        for kind, items in zip(KINDS, components)
     }
     stored = [
         {"kind": kind, "index": i, "id": value.id, **({} if j is None else {"position": j})}
-        for kind in AXES for i, j, value in entries_of(body, kind) if isinstance(value, Ref)
+        for kind in KINDS for i, j, value in kept_entries(body, kind) if isinstance(value, Ref)
     ]
     return {"request": request, "components": copies, "stored": stored, "params": params}
 
@@ -185,19 +186,27 @@ def check_copies(session: Session, principal: Principal, body: SavedEvaluationCr
     public = body.visibility == Visibility.public
     refs = [(kind, i, j, value) for kind in AXES for i, j, value in entries_of(body, kind)
             if isinstance(value, Ref)]
-    if not refs:
+    eyepieces = [(i, value) for i, value in enumerate(body.eyepieces) if isinstance(value, Ref)]
+    if not refs and not eyepieces:
         return
-    specs = resolve_slots(session, principal, [
+    requests = [
         SlotRequest({kind: ref}, loc=(LISTS[kind], i), public_only=public, slot_in_path=False)
         if j is None else
         SlotRequest({"train": [ref]}, loc=(LISTS[kind], i, j), public_only=public, slot_in_path=False)
         for kind, i, j, ref in refs
-    ], lock=True)
-    for (kind, i, j, ref), spec in zip(refs, specs):
-        copy = components[AXES.index(kind)][i]
-        now = _model(kind, spec[kind]) if j is None else train_element(spec["train"][0])
-        where = f"{LISTS[kind]}.{i}" if j is None else f"{LISTS[kind]}.{i}.{j}"
-        if _spec(now) != _spec(copy if j is None else copy[j]):
+    ]
+    if eyepieces:  # one list, so an error names its entry (eyepieces.N.id)
+        requests.append(SlotRequest({"train": list(body.eyepieces)}, loc=("eyepieces",),
+                                    public_only=public, slot_in_path=False))
+    specs = resolve_slots(session, principal, requests, lock=True)
+    checks = [(f"{LISTS[kind]}.{i}" if j is None else f"{LISTS[kind]}.{i}.{j}", kind, ref,
+               _model(kind, spec[kind]) if j is None else train_element(spec["train"][0]),
+               components[AXES.index(kind)][i] if j is None else components[AXES.index(kind)][i][j])
+              for (kind, i, j, ref), spec in zip(refs, specs)]
+    checks += [(f"eyepieces.{i}", "eyepiece", ref, train_element(specs[-1]["train"][i]), components[4][i])
+               for i, ref in eyepieces]
+    for where, kind, ref, now, copy in checks:
+        if _spec(now) != _spec(copy):
             raise ApiProblem(409, f"{where}: {kind} {ref.id} changed while the evaluation was "
                              "computed; send the request again", errors=[
                                  FieldError(field=f"{where}.id", message="changed while computing")])
@@ -221,12 +230,13 @@ def fetch(session: Session, item_id: int, principal: Principal | None) -> tuple[
 
 
 def saved_components(row: SavedEvaluationRow) -> tuple[list[Any], ...]:
-    """The components the saved answer was computed from, as calculator models."""
+    """The components the saved answer was computed from, as calculator models (telescopes,
+    cameras, trains, mounts, eyepieces; no eyepieces in one saved before they were kept)."""
     copies = row.spec["components"]
     return tuple(
         [[_model(kind, e) for e in c] if kind == "train" else None if c is None else _model(kind, c)
-         for c in copies[LISTS[kind]]]
-        for kind in AXES
+         for c in copies.get(SAVED_LISTS[kind], [])]
+        for kind in KINDS
     )
 
 
@@ -249,7 +259,7 @@ def stored_equipment(session: Session, row: SavedEvaluationRow, principal: Princ
             select(table).where(table.id.in_({e["id"] for e in wanted}), store.readable_by(table, principal))
         ).all()}
         for entry in wanted:
-            saved = copies[LISTS[kind]][entry["index"]]
+            saved = copies[SAVED_LISTS[kind]][entry["index"]]
             position = entry.get("position")
             if position is not None:
                 saved = saved[position]
@@ -267,10 +277,11 @@ def stored_equipment(session: Session, row: SavedEvaluationRow, principal: Princ
                     was = {k: v for k, v in saved.items() if k != "owned"}
                     changed = sorted(k for k in {*now, *was} if now.get(k) != was.get(k))
                     status = "changed" if changed else "unchanged"
-                    current[(kind, entry["index"], position)] = model
+                    if kind != "eyepiece" or now.get("kind") == "eyepiece":  # else the copy stands in
+                        current[(kind, entry["index"], position)] = model
             entries.append(StoredEntry(kind=kind, index=entry["index"], position=position, id=entry["id"],
                                        name=saved.get("name"), status=status, changed_fields=changed))
-    entries.sort(key=lambda e: (AXES.index(e.kind), e.index, e.position or 0))
+    entries.sort(key=lambda e: (KINDS.index(e.kind), e.index, e.position or 0))
     return entries, current
 
 

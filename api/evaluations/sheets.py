@@ -4,7 +4,8 @@ A sheet: the pick's parts with their specs and prices (owned parts marked), the 
 not owned) and of the whole combination, each objective and constraint against its bound, the
 compatibility verdict when a ``compatibility`` calculator is loaded, the field over the request's
 target when it names one, and the cautions that apply. Parts may be a list (an imaging train): its
-elements are priced and named one by one.
+elements are priced and named one by one. A visual combination's eyepiece stands where a camera would
+(``components`` may hold the candidate eyepieces after the four axes).
 """
 
 from __future__ import annotations
@@ -15,6 +16,7 @@ from typing import Any
 
 from api.clubs.page import CAUTIONS
 from api.evaluations import charts
+from api.evaluations.sample import combination_key
 from calculators.batch import AXES
 from calculators.evaluation_schemas import EvaluationRow, EvaluationSpec
 from plugins.compare import compare
@@ -30,7 +32,7 @@ UNIT_WORDS = {"arcsec", "arcmin", "mm", "um", "kg", "deg", "s", "min", "minutes"
 TELESCOPE, MOUNT = AXES.index("telescope"), AXES.index("mount")
 
 KIND_WORDS = {"telescope": "Telescope", "camera": "Camera", "modifier": "Modifier", "train": "Imaging train",
-              "mount": "Mount"}
+              "mount": "Mount", "eyepiece": "Eyepiece"}
 
 
 def _items(part) -> list:
@@ -112,9 +114,28 @@ def _describe(kind: str, part) -> str:
         return f"{part.width_px} × {part.height_px} px at {part.pixel_size_um:g} µm"
     if kind == "mount":
         return f"{part.type}, rated {part.capacity_kg:g} kg" if getattr(part, "capacity_kg", None) else str(part.type)
+    if kind == "eyepiece" or _kind(part) == "eyepiece":  # a candidate, or a train's last element
+        return eyepiece_words(part)
     factor = getattr(part, "factor", None)
     words = str(getattr(part, "kind", kind))
     return f"{words} {factor:g}×" if factor is not None else words
+
+
+def _kind(part) -> str:
+    kind = getattr(part, "kind", None)
+    return str(getattr(kind, "value", kind))
+
+
+def eyepiece_words(part) -> str:
+    """An eyepiece in plain words: focal length, apparent field, field stop, eye relief."""
+    words = [f"eyepiece of {part.focal_length_mm:g} mm focal length"]
+    if getattr(part, "apparent_field_deg", None):
+        words.append(f"{part.apparent_field_deg:g}° apparent field")
+    if getattr(part, "field_stop_mm", None):
+        words.append(f"{part.field_stop_mm:g} mm field stop")
+    if getattr(part, "eye_relief_mm", None) is not None:
+        words.append(f"{part.eye_relief_mm:g} mm eye relief")
+    return ", ".join(words)
 
 
 def _name(kind: str, index: int, part) -> str:
@@ -124,15 +145,33 @@ def _name(kind: str, index: int, part) -> str:
 
 
 def indices_of(row: EvaluationRow) -> tuple[int, ...]:
-    """The row's four indices and its binning factor (1 for a result saved before binning)."""
-    return (*(getattr(row.indices, kind) for kind in AXES), row.indices.binning or 1)
+    """The row's four indices and its binning factor, or its eyepiece (see ``combination_key``)."""
+    ix = row.indices
+    return combination_key(*(getattr(ix, kind) for kind in AXES), ix.binning, ix.eyepiece)
+
+
+def eyepieces_of(components) -> Sequence[Any]:
+    return components[4] if len(components) > 4 else ()
+
+
+def row_parts(components, indices) -> list[tuple[str, int, Any]]:
+    """(kind, index, part) of each of a combination's parts, given its ``Indices``; a visual
+    combination's eyepiece in the camera's place (none when its train ends in the eyepiece)."""
+    out = []
+    for axis, kind in enumerate(AXES):
+        index = getattr(indices, kind)
+        if kind == "camera" and index is None:
+            eyepiece = getattr(indices, "eyepiece", None)
+            if eyepiece is not None:
+                out.append(("eyepiece", eyepiece, eyepieces_of(components)[eyepiece]))
+            continue
+        out.append((kind, index, components[axis][index]))
+    return out
 
 
 def _parts(components, row: EvaluationRow, entries: Mapping[tuple[str, int], Entry]) -> list[dict]:
     parts = []
-    for axis, kind in enumerate(AXES):
-        index = indices_of(row)[axis]
-        part = components[axis][index]
+    for kind, index, part in row_parts(components, row.indices):
         if not _items(part):
             continue
         entry = entries.get((kind, index))
@@ -148,8 +187,8 @@ def _parts(components, row: EvaluationRow, entries: Mapping[tuple[str, int], Ent
 def purchase_prices(components, row: EvaluationRow) -> tuple[str, str]:
     """The price of what is not owned yet, and of the whole combination."""
     buy, total, currencies, missing = 0.0, 0.0, set(), False
-    for axis, _kind in enumerate(AXES):
-        for item in _items(components[axis][indices_of(row)[axis]]):
+    for _kind, _index, part in row_parts(components, row.indices):
+        for item in _items(part):
             price = getattr(item, "price", None)
             if price is None:
                 missing = True
@@ -167,10 +206,14 @@ def purchase_prices(components, row: EvaluationRow) -> tuple[str, str]:
 
 def _rig(components, row: EvaluationRow, rank: int) -> dict[str, Any]:
     rig: dict[str, Any] = {"name": f"pick {rank}"}
-    for axis, kind in enumerate(AXES):
-        part = components[axis][indices_of(row)[axis]]
-        if part is not None:
+    eyepiece = None
+    for kind, _index, part in row_parts(components, row.indices):
+        if kind == "eyepiece":
+            eyepiece = part
+        elif part is not None:
             rig[kind] = list(part) if isinstance(part, tuple) else part
+    if eyepiece is not None:  # a visual combination: its eyepiece ends the train
+        rig["train"] = [*rig.get("train", ()), eyepiece]
     return rig
 
 
@@ -271,15 +314,15 @@ def components_summary(components) -> list[dict]:
                          f"{price_text(_price(part))}" + (", owned" if _items(part) and all(
                              getattr(i, "owned", False) for i in _items(part)) else ""))
         out.append({"kind": KIND_WORDS.get(kind, kind.capitalize()) + "s", "items": items})
+    eyepieces = eyepieces_of(components)
+    if eyepieces:
+        out.append({"kind": "Eyepieces (visual, in a camera's place)", "items": [
+            f"{_name('eyepiece', i, e)}: {eyepiece_words(e)}, {price_text(_price(e))}"
+            + (", owned" if getattr(e, "owned", False) else "") for i, e in enumerate(eyepieces)]})
     return out
 
 
 def combination_name(components, indices) -> str:
     """A combination in words: its parts' names joined with +."""
-    names = []
-    for axis, kind in enumerate(AXES):
-        index = getattr(indices, kind)
-        part = components[axis][index]
-        if part is not None:
-            names.append(_name(kind, index, part))
-    return " + ".join(names)
+    return " + ".join(_name(kind, index, part) for kind, index, part in row_parts(components, indices)
+                      if part is not None)

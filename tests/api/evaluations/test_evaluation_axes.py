@@ -218,14 +218,6 @@ def test_bad_visual_input_is_422_naming_the_field(client, changes, field):
     assert_problem(client.post("/v1/evaluations", json=body), 422, field)
 
 
-def test_a_saved_evaluation_refuses_eyepieces_and_needs_a_camera(client, alice):
-    body = {"name": "by eye", "telescopes": SCOPES, "eyepieces": EYEPIECES, "objectives": VISUAL}
-    assert_problem(client.post("/v1/evaluations/saved", json=body, headers=alice.headers), 422, "eyepieces")
-    body = {"name": "no camera", "telescopes": SCOPES, "objectives": VISUAL,
-            "trains": [[{"kind": "eyepiece", "focal_length_mm": 25}]]}
-    assert_problem(client.post("/v1/evaluations/saved", json=body, headers=alice.headers), 422, "cameras")
-
-
 def test_an_owned_eyepiece_stays_out_of_the_purchase_price_and_a_stored_one_of_mine_is_owned(client, alice):
     scope = {**SCOPES[1]}  # 450 EUR
     priced = {"focal_length_mm": 25, "price": {"amount": 60, "currency": "EUR"}}
