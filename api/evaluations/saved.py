@@ -181,23 +181,25 @@ def snapshot(body: EvaluationRequest, components, params: dict[str, Any]) -> dic
 def check_copies(session: Session, principal: Principal, body: SavedEvaluationCreate, components) -> None:
     """Inside the writing transaction: every stored entry is still readable, in service and as it
     was copied (locked ``FOR SHARE`` on PostgreSQL; SQLite holds its write lock), and a public
-    saved evaluation uses only public equipment, as a public rig does. 422 naming the field for
+    saved evaluation uses only public equipment, as a public rig does (a members-only one no private
+    equipment, as a members-only rig). 422 naming the field for
     what the caller can fix; 409 when the equipment changed while the answer was computed."""
     public = body.visibility == Visibility.public
+    shown = {"public_only": public, "members_only": body.visibility == Visibility.members}
     refs = [(kind, i, j, value) for kind in AXES for i, j, value in entries_of(body, kind)
             if isinstance(value, Ref)]
     eyepieces = [(i, value) for i, value in enumerate(body.eyepieces) if isinstance(value, Ref)]
     if not refs and not eyepieces:
         return
     requests = [
-        SlotRequest({kind: ref}, loc=(LISTS[kind], i), public_only=public, slot_in_path=False)
+        SlotRequest({kind: ref}, loc=(LISTS[kind], i), slot_in_path=False, **shown)
         if j is None else
-        SlotRequest({"train": [ref]}, loc=(LISTS[kind], i, j), public_only=public, slot_in_path=False)
+        SlotRequest({"train": [ref]}, loc=(LISTS[kind], i, j), slot_in_path=False, **shown)
         for kind, i, j, ref in refs
     ]
     if eyepieces:  # one list, so an error names its entry (eyepieces.N.id)
         requests.append(SlotRequest({"train": list(body.eyepieces)}, loc=("eyepieces",),
-                                    public_only=public, slot_in_path=False))
+                                    slot_in_path=False, **shown))
     specs = resolve_slots(session, principal, requests, lock=True)
     checks = [(f"{LISTS[kind]}.{i}" if j is None else f"{LISTS[kind]}.{i}.{j}", kind, ref,
                _model(kind, spec[kind]) if j is None else train_element(spec["train"][0]),

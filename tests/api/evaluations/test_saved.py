@@ -189,6 +189,19 @@ def test_a_public_evaluation_may_use_only_public_stored_equipment(client, alice)
                        headers=alice.headers).status_code == 201
 
 
+def test_a_members_only_evaluation_uses_no_private_stored_equipment(client, make_account):
+    # Its readers, the club's members, would see the part in the report, as in a members-only rig.
+    club = make_account("evaluating-club", kind="club")
+    private_id = stored(client, club, "telescopes", TELESCOPES[0], "private")
+    members_id = stored(client, club, "telescopes", TELESCOPES[1], "members")
+    body = saved_body(visibility="members", telescopes=[{"id": private_id}, {"id": members_id}])
+    problem = assert_problem(client.post("/v1/evaluations/saved", json=body, headers=club.headers), 422,
+                             "telescopes.0.id")
+    assert "members-only" in problem["detail"]
+    body = saved_body(visibility="members", telescopes=[{"id": members_id}, *TELESCOPES[2:]])
+    assert client.post("/v1/evaluations/saved", json=body, headers=club.headers).status_code == 201
+
+
 def test_equipment_changed_while_computing_is_a_409_and_nothing_is_stored(app, client, alice):
     # The check inside the writing transaction: the copies must still be what is stored.
     from sqlmodel import Session, select
