@@ -92,7 +92,8 @@ def _data(value: float) -> str:
     return format(value, ".7g")
 
 
-def _indices(ix: Indices) -> str:
+def indices_text(ix: Indices) -> str:
+    """``data-indices`` of a combination, as the chart and the pick sheets write it."""
     return ",".join("-" if i is None else str(i) for i in ix)  # a visual combination has no camera
 
 
@@ -152,7 +153,7 @@ def tradeoff_svg(x_axis: Axis, y_axis: Axis | None, cloud: Sequence[Point], fron
 
     def where(p: Point) -> str:
         y = "" if p.y is None else f' data-y="{_data(p.y)}"'
-        return f'cx="{sx(p.x):.1f}" cy="{sy(p.y):.1f}" data-indices="{_indices(p.indices)}" data-x="{_data(p.x)}"{y}'
+        return f'cx="{sx(p.x):.1f}" cy="{sy(p.y):.1f}" data-indices="{indices_text(p.indices)}" data-x="{_data(p.x)}"{y}'
 
     room = WIDTH - 2 * 12
     heading = f"Trade-off: {x_axis.label}" + (f" against {y_axis.label}" if y_axis else "")
@@ -209,7 +210,7 @@ def tradeoff_svg(x_axis: Axis, y_axis: Axis | None, cloud: Sequence[Point], fron
     if baseline is not None:
         x, y = sx(baseline.x), sy(baseline.y)
         body.append(f'<path d="M {x:.1f} {y - 8:.1f} l 8 8 l -8 8 l -8 -8 z" fill="{BAR_BASELINE}" '
-                    f'data-baseline="true" data-indices="{_indices(baseline.indices)}"/>')
+                    f'data-baseline="true" data-indices="{indices_text(baseline.indices)}"/>')
         body.append(text_element(x + 10, y + 16, "baseline", size=11, fill=BAR_BASELINE, weight="bold"))
     body.append(f'<g data-set="picks" fill="none" stroke="{INK}" stroke-width="1.5">')
     for rank, p in enumerate(picks, 1):
@@ -288,13 +289,13 @@ def parallel_svg(axes: Sequence[Axis], lines: Sequence[Line], *, shown_of: int,
     for ln in lines:
         if ln.pick is None:
             pts = " ".join(f"{left + j * step:.1f},{y(j, v):.1f}" for j, v in enumerate(ln.values))
-            body.append(f'<polyline points="{pts}" data-indices="{_indices(ln.indices)}"/>')
+            body.append(f'<polyline points="{pts}" data-indices="{indices_text(ln.indices)}"/>')
     body.append("</g>")
     body.append(f'<g data-set="pick-lines" fill="none" stroke="{FRAME}" stroke-width="2.5">')
     labels = []
     for ln in sorted((ln for ln in lines if ln.pick is not None), key=lambda ln: -ln.pick):
         pts = " ".join(f"{left + j * step:.1f},{y(j, v):.1f}" for j, v in enumerate(ln.values))
-        body.append(f'<polyline points="{pts}" data-indices="{_indices(ln.indices)}" data-pick="{ln.pick}"/>')
+        body.append(f'<polyline points="{pts}" data-indices="{indices_text(ln.indices)}" data-pick="{ln.pick}"/>')
         labels.append(text_element(left + (k - 1) * step + 8, y(k - 1, ln.values[-1]) + 4, str(ln.pick),
                                    size=11, fill=FRAME, weight="bold"))
     body.append("</g>")

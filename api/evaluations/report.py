@@ -104,7 +104,7 @@ def context(spec: EvaluationSpec, components, result: EvaluationResult, registry
         "excluded": sum(result.excluded.values()) if getattr(result, "excluded", None) else None,
         "infeasible": result.evaluated - result.feasible,
         "baseline_feasible": result.baseline_feasible,
-        "baseline_indices": ",".join(map(str, indices_of(result.baseline))),
+        "baseline_name": combination_name(components, result.baseline.indices),
         "entries": list(entries), "gone": [e for e in entries if e.status in ("gone", "retired")],
         "changed": [e for e in entries if e.status == "changed"],
         "axes": axes, "no_front": not result.front,

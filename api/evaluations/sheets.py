@@ -258,7 +258,7 @@ def pick_sheet(rank, row, components, bounds_by_key, objectives, result, calcula
         "value": charts.number_text(row.values.get(key)), "direction": direction,
         "bounds": bounds_text(bounds_by_key[key], units.get(key, "")) if key in bounds_by_key else None,
     } for key, direction in objectives.items()]
-    sheet = {"rank": rank, "indices": ",".join(map(str, indices_of(row))), "score": row.score,
+    sheet = {"rank": rank, "indices": charts.indices_text(indices_of(row)), "score": row.score,
              "parts": _parts(components, row, entries), "purchase": buy, "total": total,
              "constraints": constraints, "objectives": objectives,
              "compatibility": None, "field": None, "cautions": [], "extra_error": extras.get("error")}

@@ -154,6 +154,12 @@ def test_each_pick_sheet_names_its_eyepiece_in_place_of_a_camera(client, alice):
         assert f"Eyepiece: {eyepiece['name']}" in parts
         assert f"{eyepiece['focal_length_mm']:g} mm focal length" in parts
         assert f"{eyepiece['apparent_field_deg']:g}° apparent field" in parts
+    # The chart's caption names the baseline combination by its parts, no index placeholders.
+    baseline = item["result"]["baseline"]["indices"]
+    [caption] = re.findall(r"\(purple diamond: ([^)]*)\)", page.text)
+    assert caption.startswith(f"{SCOPES[baseline['telescope']]['name']} + ")
+    assert EYEPIECES[baseline["eyepiece"]]["name"] in caption.split(" + ")
+    assert "None" not in caption and not re.search(r'data-indices="[^"]*None', page.text)
 
 
 def test_a_visual_train_saved_without_eyepieces_names_the_trains_eyepiece(client, alice):
