@@ -323,6 +323,7 @@ def components_summary(components) -> list[dict]:
 
 
 def combination_name(components, indices) -> str:
-    """A combination in words: its parts' names joined with +."""
+    """A combination in words: its parts' names joined with +, as a pick sheet's heading (no mount
+    and the empty train are left out)."""
     return " + ".join(_name(kind, index, part) for kind, index, part in row_parts(components, indices)
-                      if part is not None)
+                      if _items(part))
