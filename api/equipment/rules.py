@@ -158,10 +158,11 @@ def _equipment_hooks(label: str, slot: str):
         rigs = _locked_rigs_using(session, slot, row)
         if not rigs:
             return
-        if _WIDTH[values["visibility"]] < _WIDTH[row.visibility]:  # fewer people may read it now
-            wider = [r for r in rigs if r.owner_id == row.owner_id and _WIDTH[r.visibility] > _WIDTH[values["visibility"]]]
+        narrower = values["visibility"]
+        if _WIDTH[narrower] < _WIDTH[row.visibility]:  # fewer people may read it now
+            wider = [r for r in rigs if r.owner_id == row.owner_id and _WIDTH[r.visibility] > _WIDTH[narrower]]
             if wider:
-                first = "private" if values["visibility"] == Visibility.private.value else "members-only or private"
+                first = "private" if narrower == Visibility.private.value else "members-only or private"
                 raise _used_by(label, row.id, wider, principal, f"make those rigs {first} first")
             others = [r for r in rigs if r.owner_id != row.owner_id]
             if others:

@@ -6,7 +6,8 @@ words), presentation attributes only, so they work under a strict Content-Securi
 standalone files.
 
 Every drawn combination carries ``data-indices="t,c,r,m,b"`` (its indices into the request's lists
-and its binning factor; ``"t,-,r,m,-,e"`` for a visual one with eyepiece e) and ``data-x`` / ``data-y`` (its values, 7 significant figures); the front's points also carry
+and its binning factor; ``"t,-,r,m,-,e"`` for a visual one with eyepiece e) and ``data-x`` /
+``data-y`` (its values, 7 significant figures); the front's points also carry
 ``data-front="true"``, the top picks ``data-pick="<rank>"`` and the baseline
 ``data-baseline="true"``, so a test (or a script) can read back exactly what is drawn.
 """

@@ -182,8 +182,8 @@ def check_copies(session: Session, principal: Principal, body: SavedEvaluationCr
     """Inside the writing transaction: every stored entry is still readable, in service and as it
     was copied (locked ``FOR SHARE`` on PostgreSQL; SQLite holds its write lock), and a public
     saved evaluation uses only public equipment, as a public rig does (a members-only one no private
-    equipment, as a members-only rig). 422 naming the field for
-    what the caller can fix; 409 when the equipment changed while the answer was computed."""
+    equipment, as a members-only rig). 422 naming the field for what the caller can fix; 409 when
+    the equipment changed while the answer was computed."""
     public = body.visibility == Visibility.public
     shown = {"public_only": public, "members_only": body.visibility == Visibility.members}
     refs = [(kind, i, j, value) for kind in AXES for i, j, value in entries_of(body, kind)
