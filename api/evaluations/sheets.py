@@ -19,6 +19,7 @@ from api.evaluations import charts
 from api.evaluations.sample import combination_key
 from calculators.batch import AXES
 from calculators.evaluation_schemas import EvaluationRow, EvaluationSpec
+from calculators.ownership import is_owned
 from plugins.compare import compare
 
 #: A mount loaded above this fraction of its rated capacity gets its own caution (common practice:
@@ -178,7 +179,7 @@ def _parts(components, row: EvaluationRow, entries: Mapping[tuple[str, int], Ent
         parts.append({
             "kind": KIND_WORDS.get(kind, kind.capitalize()), "name": _name(kind, index, part),
             "specs": _describe(kind, part), "price": price_text(_price(part)),
-            "owned": all(bool(getattr(i, "owned", False)) for i in _items(part)),
+            "owned": all(is_owned(i) for i in _items(part)),
             "stored_id": entry.id if entry else None, "status": entry.status if entry else None,
         })
     return parts
@@ -195,7 +196,7 @@ def purchase_prices(components, row: EvaluationRow) -> tuple[str, str]:
                 continue
             currencies.add(price.currency)
             total += price.amount
-            if not getattr(item, "owned", False):
+            if not is_owned(item):
                 buy += price.amount
     if len(currencies) > 1:
         return "prices in several currencies", "prices in several currencies"
@@ -312,13 +313,13 @@ def components_summary(components) -> list[dict]:
         for index, part in enumerate(components[axis]):
             items.append("none" if part is None else f"{_name(kind, index, part)}: {_describe(kind, part)}, "
                          f"{price_text(_price(part))}" + (", owned" if _items(part) and all(
-                             getattr(i, "owned", False) for i in _items(part)) else ""))
+                             is_owned(i) for i in _items(part)) else ""))
         out.append({"kind": KIND_WORDS.get(kind, kind.capitalize()) + "s", "items": items})
     eyepieces = eyepieces_of(components)
     if eyepieces:
         out.append({"kind": "Eyepieces (visual, in a camera's place)", "items": [
             f"{_name('eyepiece', i, e)}: {eyepiece_words(e)}, {price_text(_price(e))}"
-            + (", owned" if getattr(e, "owned", False) else "") for i, e in enumerate(eyepieces)]})
+            + (", owned" if is_owned(e) else "") for i, e in enumerate(eyepieces)]})
     return out
 
 

@@ -179,8 +179,7 @@ class Compatibility(Calculator):
         visual = np.asarray(batch["train_has_eyepiece"], dtype=bool)
         no_camera = np.isnan(batch["pixel_size_um"]) & ~visual
         no_flange = np.isnan(batch["flange_to_sensor_mm"]) & ~visual
-        shape = np.broadcast_shapes(*(np.shape(a) for a in (
-            visual, no_camera, batch["train_backfocus_mm"], batch["train_powered"])))
+        shape = batch.shape
         spacer = _first(
             shape,
             (np.isnan(batch["train_backfocus_mm"]), NO_BACKFOCUS),
